@@ -1,0 +1,84 @@
+"""The library's front door: load, analyse, and write outputs.
+
+Examples
+--------
+>>> from lumped.api import loads
+>>> net = loads("resistor R from a to ground 1 kohm\\ncapacitor C from a to ground 1 uF, initially 5 V\\n")
+>>> [e.name for e in net.elements]
+['R', 'C']
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from . import model as m
+from .errors import NetlistError
+from .parse import load_file, parse_text
+from .topology import validate
+
+
+def loads(text: str, source: str = "<text>") -> m.Netlist:
+    """Parse and validate netlist text.
+
+    Examples
+    --------
+    >>> loads("resistor R from a to ground 1 ohm\\n").elements[0].value
+    1
+    """
+    netlist = parse_text(text, source)
+    validate(netlist)
+    return netlist
+
+
+def load(path: str | Path) -> m.Netlist:
+    """Read, parse and validate a netlist file.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "r.lumped"
+    >>> _ = p.write_text("resistor R from a to ground 1 ohm\\n")
+    >>> load(p).elements[0].kind.word
+    'resistor'
+    """
+    netlist = load_file(path)
+    validate(netlist)
+    return netlist
+
+
+def check_outputs(source: Path, outputs: list[Path]) -> None:
+    """Refuse outputs that would overwrite the input or each other, or land nowhere."""
+    seen: set[Path] = set()
+    try:
+        source_resolved = source.resolve()
+    except OSError:
+        source_resolved = source
+    for output in outputs:
+        resolved = output.resolve()
+        if resolved == source_resolved:
+            raise NetlistError(f"refusing to overwrite the input file {source}",
+                               hint="name a different output file")
+        if resolved.suffix == source.suffix and source.suffix == ".lumped":
+            raise NetlistError(f"refusing to write results into a netlist file ({output})",
+                               hint="name outputs .json, .csv, .png, .svg or .tex")
+        if resolved in seen:
+            raise NetlistError(f"two outputs are both {output}", hint="give each its own file")
+        seen.add(resolved)
+        if not resolved.parent.is_dir():
+            raise NetlistError(f"the folder for {output} does not exist",
+                               hint="create it first or name another place")
+
+
+def analyse(netlist: m.Netlist):
+    """Solve the netlist and compute every watched quantity's response and figures."""
+    from .analysis import analyse as _analyse
+
+    return _analyse(netlist)
+
+
+def emit(analysis, args) -> int:
+    """Print the report and write the requested outputs; return the exit status."""
+    from .outputs import emit as _emit
+
+    return _emit(analysis, args)

@@ -1,0 +1,103 @@
+"""The `lumped` command: a thin shell over the library.
+
+Exit status: 0 every requirement passes, 1 a requirement fails, 2 bad input
+(nothing is written then).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from .errors import LumpedError, NetlistError
+
+EXIT_PASS, EXIT_FAIL, EXIT_BAD_INPUT = 0, 1, 2
+
+_DESCRIPTION = """\
+Solve a lumped electrical or mechanical network exactly: read a netlist
+(.lumped), build the s-domain equations with the initial conditions, invert
+them in closed form, and report the figures of every watched quantity with a
+pass/fail verdict for each requirement.
+
+exit status: 0 all requirements pass, 1 a requirement fails, 2 bad input."""
+
+_EPILOG = """\
+examples:
+  lumped examples/switch_node_snubber.lumped
+  lumped examples/crate_drop.lumped --plot crate.png --json crate.json
+  lumped --check my_filter.lumped
+  lumped --syntax            # print the netlist language reference
+
+Results describe an idealised linear lumped model. Applicable standards,
+local codes, physical testing and licensed engineering review govern anything
+that can hurt someone."""
+
+
+def _arguments() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="lumped",
+        description=_DESCRIPTION,
+        epilog=_EPILOG,
+        formatter_class=argparse.RawDescriptionHelpFormatter,
+    )
+    parser.add_argument("netlist", nargs="?", help="the netlist file (.lumped)")
+    parser.add_argument("--check", action="store_true",
+                        help="only read and validate the netlist, print its summary")
+    parser.add_argument("--json", metavar="FILE", help="write the results as JSON")
+    parser.add_argument("--csv", metavar="FILE", help="write sampled waveforms as CSV")
+    parser.add_argument("--plot", metavar="FILE", help="draw the waveforms (.png or .svg)")
+    parser.add_argument("--latex", metavar="FILE", help="write the formulas as LaTeX")
+    parser.add_argument("--samples", type=int, default=2001, metavar="N",
+                        help="points per waveform in CSV and plots (default 2001)")
+    parser.add_argument("--quiet", action="store_true", help="print only the verdicts")
+    parser.add_argument("--color", choices=("auto", "always", "never"), default="auto",
+                        help="colour in the report (default: only on a terminal)")
+    parser.add_argument("--syntax", action="store_true",
+                        help="print the netlist language reference and exit")
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run the command line; returns the exit status."""
+    args = _arguments().parse_args(argv)
+    try:
+        return _run(args)
+    except NetlistError as error:
+        print(error.render(), file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except LumpedError as error:
+        print(f"{args.netlist}: {error}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        print("interrupted", file=sys.stderr)
+        return 130
+
+
+def _run(args: argparse.Namespace) -> int:
+    if args.syntax:
+        from .reference import language_reference
+
+        print(language_reference())
+        return EXIT_PASS
+    if not args.netlist:
+        print("lumped: name a netlist file, e.g. `lumped examples/switch_node_snubber.lumped`;"
+              " see `lumped --help`", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    from . import api
+
+    source = Path(args.netlist)
+    outputs = [Path(p) for p in (args.json, args.csv, args.plot, args.latex) if p]
+    api.check_outputs(source, outputs)
+    netlist = api.load(source)
+    if args.check:
+        from .report import network_summary
+
+        print(network_summary(netlist))
+        return EXIT_PASS
+    analysis = api.analyse(netlist)
+    return api.emit(analysis, args)
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

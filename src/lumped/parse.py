@@ -1,0 +1,1086 @@
+"""Netlist text -> model.
+
+The lark grammar in ``grammar/lumped.lark`` is the single definition of the
+syntax.  A :class:`lark.Transformer` turns the parse tree into statements whose
+arithmetic is a small tree of our own; parameters are then evaluated in
+dependency order (networkx) and every value is reduced to an exact SI
+magnitude with its dimensions checked against what the element needs.
+"""
+
+from __future__ import annotations
+
+import difflib
+from dataclasses import dataclass
+from fractions import Fraction
+from functools import cache
+from importlib import resources
+from pathlib import Path
+
+import networkx as nx
+import sympy
+from lark import Lark, Token, Transformer, Tree, v_args
+from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+
+from . import model as m
+from .errors import Location, NetlistError
+from .units import (
+    DIMENSIONLESS,
+    STANDARD_GRAVITY,
+    Dims,
+    SIValue,
+    UnitError,
+    describe,
+    dims_of,
+    multiply,
+    parse_unit,
+    power,
+)
+
+FILE_EXTENSION = ".lumped"
+
+# Resource limits: inputs beyond these are refused with a clear message.
+MAX_BYTES = 2_000_000
+MAX_STATEMENTS = 5_000
+MAX_NESTING = 200
+MAX_LINE = 20_000
+
+KEYWORDS = (
+    "let", "resistor", "inductor", "capacitor", "voltage source", "current source", "mass",
+    "spring", "damper", "force source", "velocity source", "displacement source", "inertia",
+    "torsion spring", "rotary damper", "torque source", "angular velocity source",
+    "transformer", "lever", "gear", "belt", "rack", "motor", "watch", "window", "require",
+    "settling band", "gravity", "drop",
+)
+
+
+# ---------------------------------------------------------------------------
+# The grammar
+
+
+def _grammar_text() -> str:
+    try:
+        return resources.files("lumped.grammar").joinpath("lumped.lark").read_text("utf-8")
+    except (ModuleNotFoundError, FileNotFoundError, TypeError):
+        # Running from a source checkout without installing: grammar/ beside src/.
+        here = Path(__file__).resolve().parents[2] / "grammar" / "lumped.lark"
+        return here.read_text("utf-8")
+
+
+@cache
+def parser() -> Lark:
+    """The lark parser for the netlist language (built once)."""
+    return Lark(
+        _grammar_text(),
+        parser="lalr",
+        lexer="contextual",
+        propagate_positions=True,
+        maybe_placeholders=False,
+    )
+
+
+# ---------------------------------------------------------------------------
+# Arithmetic trees built by the transformer
+
+
+@dataclass(frozen=True)
+class Num:
+    value: Fraction
+    unit: str | None
+    location: Location
+    unit_location: Location | None = None
+
+
+@dataclass(frozen=True)
+class Name:
+    name: str
+    location: Location
+
+
+@dataclass(frozen=True)
+class Op:
+    op: str  # + - * / ^ neg sqrt pi
+    args: tuple
+    location: Location
+
+
+Expr = Num | Name | Op
+
+
+def _names(expr: Expr) -> set[str]:
+    found: set[str] = set()
+    stack = [expr]
+    while stack:
+        item = stack.pop()
+        if isinstance(item, Name):
+            found.add(item.name)
+        elif isinstance(item, Op):
+            stack.extend(item.args)
+    return found
+
+
+# Raw statements (before evaluation)
+
+
+@dataclass(frozen=True)
+class RawStatement:
+    tag: str
+    fields: dict
+    location: Location
+
+
+class _Builder(Transformer):
+    """Turns the lark tree into raw statements; arithmetic into Num/Name/Op."""
+
+    def __init__(self, source: str) -> None:
+        super().__init__()
+        self.source = source
+
+    def _loc(self, item) -> Location:
+        if isinstance(item, Token):
+            width = max(1, (item.end_column or item.column + 1) - item.column)
+            return Location(self.source, item.line, item.column, width)
+        meta = item
+        width = 1
+        if getattr(meta, "end_line", None) == meta.line and meta.end_column:
+            width = max(1, meta.end_column - meta.column)
+        return Location(self.source, meta.line, meta.column, width)
+
+    # arithmetic ---------------------------------------------------------------
+    @v_args(meta=True)
+    def number(self, meta, children):
+        value = Fraction(str(children[0]))
+        if len(children) > 1:
+            return Num(value, str(children[1]), self._loc(meta), self._loc(children[1]))
+        return Num(value, None, self._loc(meta))
+
+    @v_args(meta=True)
+    def name(self, meta, children):
+        return Name(str(children[0]), self._loc(children[0]))
+
+    @v_args(meta=True)
+    def pi(self, meta, children):
+        return Op("pi", (), self._loc(meta))
+
+    def _binary(op):  # noqa: N805 - a small factory for the four operators
+        @v_args(meta=True)
+        def build(self, meta, children):
+            return Op(op, (children[0], children[1]), self._loc(meta))
+
+        return build
+
+    add = _binary("+")
+    subtract = _binary("-")
+    multiply = _binary("*")
+    divide = _binary("/")
+    power = _binary("^")
+
+    @v_args(meta=True)
+    def negate(self, meta, children):
+        return Op("neg", (children[0],), self._loc(meta))
+
+    @v_args(meta=True)
+    def call(self, meta, children):
+        return Op(str(children[0]), (children[1],), self._loc(meta))
+
+    # pieces -------------------------------------------------------------------
+    def passive_kind(self, children):
+        return children[0]
+
+    source_kind = passive_kind
+
+    def between(self, children):
+        return ("between", children[0], children[1])
+
+    def at_node(self, children):
+        return ("at", children[0])
+
+    def initial(self, children):
+        return ("initial", children[0])
+
+    def delay(self, children):
+        return ("delay", children[0])
+
+    def phase(self, children):
+        return ("phase", children[0])
+
+    def grounded_port(self, children):
+        return (children[0], None)
+
+    def floating_port(self, children):
+        return (children[0], children[1])
+
+    def factor(self, children):
+        return (children[0], children[1])
+
+    @v_args(meta=True)
+    def quantity(self, meta, children):
+        word, prep, target = children
+        return {
+            "word": " ".join(str(word).split()),
+            "preposition": str(prep),
+            "target": target,
+            "location": self._loc(meta),
+        }
+
+    def figure(self, children):
+        word = children[0]
+        band = children[1] if len(children) > 1 else None
+        return (" ".join(str(word).split()), band, word)
+
+    def below(self, children):
+        return ("below", children[0], None)
+
+    def above(self, children):
+        return ("above", children[0], None)
+
+    def between_bounds(self, children):
+        return ("between", children[0], children[1])
+
+    def gravity_start(self, children):
+        return ("start", str(children[0]))
+
+    # waveforms ----------------------------------------------------------------
+    def _wave(shape, *slots):  # noqa: N805
+        @v_args(meta=True)
+        def build(self, meta, children):
+            fields = {"shape": shape}
+            plain = [c for c in children if not isinstance(c, tuple)]
+            for slot, value in zip(slots, plain, strict=False):
+                fields[slot] = value
+            for child in children:
+                if isinstance(child, tuple):
+                    fields[child[0]] = child[1]
+            fields["location"] = self._loc(meta)
+            return fields
+
+        return build
+
+    constant = _wave(m.Shape.CONSTANT, "amplitude")
+    step = _wave(m.Shape.STEP, "amplitude")
+    ramp = _wave(m.Shape.RAMP, "amplitude")
+    impulse = _wave(m.Shape.IMPULSE, "amplitude")
+    pulse = _wave(m.Shape.PULSE, "amplitude", "duration")
+    sine = _wave(m.Shape.SINE, "amplitude", "frequency")
+    exponential = _wave(m.Shape.EXPONENTIAL, "amplitude", "time_constant")
+    bump = _wave(m.Shape.HALF_SINE, "amplitude", "duration")
+
+    @v_args(meta=True)
+    def waveform(self, meta, children):
+        return ("waveform", tuple(children), self._loc(meta))
+
+    # statements ---------------------------------------------------------------
+    def _statement(tag):  # noqa: N805
+        @v_args(meta=True)
+        def build(self, meta, children):
+            return RawStatement(tag, {"children": children}, self._loc(meta))
+
+        return build
+
+    let_value = _statement("let_value")
+    let_free = _statement("let_free")
+    element = _statement("element")
+    coupling = _statement("coupling")
+    watch = _statement("watch")
+    window = _statement("window")
+    require = _statement("require")
+    settling_band = _statement("settling_band")
+    gravity = _statement("gravity")
+    drop = _statement("drop")
+
+    def start(self, children):
+        return [c for c in children if isinstance(c, RawStatement)]
+
+
+# ---------------------------------------------------------------------------
+# Parse errors in the user's terms
+
+_EXAMPLES: dict[str, list[str]] = {
+    "missing value: write the element's value with its unit, e.g. `4.7 uF`": [
+        "resistor R1 from a to b\n",
+        "capacitor C1 from a to ground\n",
+        "inductor L1 from a to b initially 1 A\n",
+        "mass m1 at body\n",
+    ],
+    "missing waveform: say what the source does, e.g. `step 48 V` or `sine 1 V at 50 Hz`": [
+        "voltage source V1 from a to ground\n",
+        "current source I1 from a to ground\n",
+        "force source F1 at body\n",
+        "velocity source V1 at body\n",
+    ],
+    "missing nodes: write `from NODE to NODE` (or `at NODE`) after the name": [
+        "resistor R1 2 ohm from\n",
+        "resistor R1 from a 2 ohm\n",
+        "resistor R1 from a to\n",
+    ],
+    "unbalanced parentheses: close every `(` with a `)`": [
+        "let a = (2 + 3\n",
+        "let a = ((1 V)\n",
+        "let a = 2 )\n",
+        "resistor R1 from a to b (2 ohm\n",
+    ],
+    "missing name: every element needs a name right after its kind, e.g. `resistor R1 from a to b 1 ohm`": [
+        "resistor from a to b 1 ohm\n",
+        "capacitor at a 1 uF\n",
+    ],
+    "incomplete arithmetic: an operator needs a value on both sides": [
+        "let a = 2 +\n",
+        "let a = 2 * * 3\n",
+        "resistor R1 from a to b 2 ohm *\n",
+    ],
+}
+
+_FALLBACK_HINT = (
+    "each line starts with a keyword: let, an element kind (resistor, capacitor, mass, "
+    "spring, ...), a coupling (gear, motor, ...), watch, window, require, gravity or drop"
+)
+
+
+def _error_key(error: UnexpectedInput) -> tuple:
+    state = getattr(error, "state", None)
+    position = getattr(state, "position", state)
+    accepts = getattr(error, "accepts", None) or getattr(error, "expected", None) or ()
+    return position, frozenset(accepts)
+
+
+@cache
+def _example_keys() -> dict[tuple, str]:
+    """Parser states reached by the example slips, each mapped to its label."""
+    keys: dict[tuple, str] = {}
+    for label, examples in _EXAMPLES.items():
+        for example in examples:
+            try:
+                parser().parse(example)
+            except UnexpectedInput as error:
+                keys.setdefault(_error_key(error), label)
+    return keys
+
+
+def _classify(error: UnexpectedInput) -> str | None:
+    """Match an error against the example slips by the parser state they reach."""
+    return _example_keys().get(_error_key(error))
+
+
+def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistError:
+    line = getattr(error, "line", 1) or 1
+    column = getattr(error, "column", 1) or 1
+    width = 1
+    token = getattr(error, "token", None)
+    if isinstance(error, UnexpectedEOF) or (token is not None and token.type == "$END"):
+        lines = text.splitlines() or [""]
+        line = len(lines)
+        column = len(lines[-1]) + 1
+    if token is not None and token.type not in ("$END", "_NL"):
+        width = max(1, len(str(token)))
+    misspelt = _misspelt_word_before(text, line, column)
+    if misspelt is not None:
+        word, keyword, word_column = misspelt
+        return NetlistError(
+            f"unknown word '{word}'", Location(source, line, word_column, len(word)),
+            hint=f"did you mean '{keyword}'?",
+        ).with_text(text)
+    label = _classify(error)
+    if label is not None:
+        what, hint = label.split(": ", 1)
+        found = _describe_token(token, error)
+        message = f"{what}{found}"
+    else:
+        message, hint = _generic_message(error, token)
+    return NetlistError(message, Location(source, line, column, width), hint=hint).with_text(text)
+
+
+# Words that follow a name or a value inside a statement; a near miss of one of
+# these is reported as a misspelling rather than as whatever it broke next.
+_INNER_WORDS = (
+    "from", "to", "at", "on", "initially", "after", "for", "phase", "plus", "step", "ramp",
+    "impulse", "pulse", "sine", "exponential", "tau", "bump", "ratio", "radius", "constant",
+    "below", "above", "between", "and", "within", "of", "in", "through", "across",
+    "equilibrium", "unloaded",
+)
+
+
+def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, int] | None:
+    import re
+
+    lines = text.split("\n")
+    if not 1 <= line <= len(lines):
+        return None
+    before = lines[line - 1][: column - 1]
+    words = list(re.finditer(r"[A-Za-z_][A-Za-z0-9_]*", before))
+    for match in reversed(words[-2:]):
+        word = match.group(0)
+        if word in _INNER_WORDS or word in KEYWORDS:
+            return None
+        close = difflib.get_close_matches(word, _INNER_WORDS, n=1, cutoff=0.75)
+        if close and len(word) >= 2:
+            return word, close[0], match.start() + 1
+    return None
+
+
+def _describe_token(token, error) -> str:
+    if isinstance(error, UnexpectedCharacters):
+        return f" (unexpected character {error.char!r})"
+    if token is None or token.type == "$END":
+        return " (the file ends here)"
+    if token.type == "_NL":
+        return " (the line ends here)"
+    return f" (found '{token}')"
+
+
+def _generic_message(error: UnexpectedInput, token) -> tuple[str, str]:
+    if isinstance(error, UnexpectedCharacters):
+        char = error.char
+        if char == "\t":
+            char = "tab"
+        return f"unexpected character {char!r}", _FALLBACK_HINT
+    expected = set(getattr(error, "expected", ()) or getattr(error, "accepts", ()) or ())
+    if token is not None and token.type in ("NAME", "UNIT") and _at_line_start(error):
+        close = difflib.get_close_matches(str(token), KEYWORDS, n=2, cutoff=0.6)
+        if close:
+            return (
+                f"unknown statement '{token}'",
+                "did you mean " + " or ".join(f"'{c}'" for c in close) + "?",
+            )
+        return f"unknown statement '{token}'", _FALLBACK_HINT
+    if token is not None and token.type not in ("$END", "_NL"):
+        word = str(token)
+        wanted = _readable_expected(expected)
+        close = difflib.get_close_matches(word, _keyword_words(expected), n=1, cutoff=0.6)
+        hint = f"did you mean '{close[0]}'?" if close else f"expected {wanted}"
+        return f"unexpected '{word}'", hint
+    wanted = _readable_expected(expected)
+    return "the line ends too early", f"expected {wanted}"
+
+
+def _at_line_start(error: UnexpectedInput) -> bool:
+    state = getattr(error, "state", None)
+    interactive = getattr(error, "interactive_parser", None)
+    if interactive is not None:
+        try:
+            return len(interactive.parser_state.value_stack) == 0 or all(
+                isinstance(v, Token) and v.type == "_NL" or isinstance(v, Tree)
+                for v in interactive.parser_state.value_stack
+            )
+        except AttributeError:
+            return False
+    return state == 0
+
+
+_TERMINAL_WORDS = {
+    "NAME": "a name", "NUMBER": "a number", "UNIT": "a unit", "_NL": "the end of the line",
+    "LPAR": "'('", "RPAR": "')'", "PLUS": "'+'", "MINUS": "'-'", "STAR": "'*'", "SLASH": "'/'",
+    "CIRCUMFLEX": "'^'", "COMMA": "','", "EQUAL": "'='", "QUANTITY_WORD": "a quantity word "
+    "(voltage, current, velocity, displacement, acceleration, force, angle, torque)",
+    "PREPOSITION": "at, of, in, through or across", "FIGURE_WORD": "a figure (peak, minimum, "
+    "final value, overshoot, rise time, settling time, ...)",
+}
+
+
+def _readable_expected(expected: set[str]) -> str:
+    words = []
+    for name in sorted(expected):
+        if name.startswith("__ANON") or name.startswith("ANON") or name == "SETTLING_TIME":
+            continue
+        if name in _TERMINAL_WORDS:
+            words.append(_TERMINAL_WORDS[name])
+        elif name.isupper() and not name.startswith("__"):
+            words.append(name.lower().replace("_", " "))
+        else:
+            words.append(name.strip("_").lower())
+    words = sorted(set(words))
+    if not words:
+        return "something else"
+    if len(words) > 6:
+        return ", ".join(words[:6]) + ", ..."
+    return ", ".join(words)
+
+
+def _keyword_words(expected: set[str]) -> list[str]:
+    return [name.lower().replace("_", " ") for name in expected if name.isupper()]
+
+
+# ---------------------------------------------------------------------------
+# Pre-checks: text-level problems lark should not have to meet
+
+
+def _prepare(data: bytes | str, source: str) -> str:
+    if isinstance(data, bytes):
+        if len(data) > MAX_BYTES:
+            raise NetlistError(
+                f"the file is too large ({len(data)} bytes; the limit is {MAX_BYTES})",
+                Location(source, 1, 1),
+                hint="split the network or check that this is the right file",
+            )
+        if data.startswith(b"\xef\xbb\xbf"):
+            data = data[3:]
+        try:
+            text = data.decode("utf-8")
+        except UnicodeDecodeError as exc:
+            line = data[: exc.start].count(b"\n") + 1
+            column = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
+            raise NetlistError(
+                f"this is not UTF-8 text (byte 0x{data[exc.start]:02x})",
+                Location(source, line, column),
+                hint="a netlist is a plain text file; save it as UTF-8",
+            ) from None
+    else:
+        text = data.lstrip("\ufeff")
+        if len(text) > MAX_BYTES:
+            raise NetlistError(
+                f"the text is too large ({len(text)} characters; the limit is {MAX_BYTES})",
+                Location(source, 1, 1),
+                hint="split the network",
+            )
+    text = text.replace("\r\n", "\n").replace("\r", "\n")
+    depth = 0
+    for number, line in enumerate(text.split("\n"), start=1):
+        if len(line) > MAX_LINE:
+            raise NetlistError(
+                f"line {number} is {len(line)} characters long (the limit is {MAX_LINE})",
+                Location(source, number, MAX_LINE),
+                hint="write one statement per line and name long expressions with let",
+                line_text=line[:200],
+            )
+        for column, char in enumerate(line, start=1):
+            if char == "\x00" or (ord(char) < 32 and char not in "\t\f"):
+                raise NetlistError(
+                    f"control character {char!r} in the text",
+                    Location(source, number, column),
+                    hint="a netlist is a plain text file; is this the right file?",
+                    line_text=line,
+                )
+            if char == "#":
+                break
+            if char == "(":
+                depth += 1
+                if depth > MAX_NESTING:
+                    raise NetlistError(
+                        f"parentheses nested more than {MAX_NESTING} deep",
+                        Location(source, number, column),
+                        hint="name parts of the expression with let",
+                        line_text=line,
+                    )
+            elif char == ")":
+                depth = max(0, depth - 1)
+        depth = 0
+    if not text.endswith("\n"):
+        text += "\n"
+    return text
+
+
+# ---------------------------------------------------------------------------
+# Evaluation of arithmetic to exact SI values
+
+
+class _Scope:
+    def __init__(self, source: str) -> None:
+        self.source = source
+        self.values: dict[str, SIValue] = {}
+        self.parameters: dict[str, m.Parameter] = {}
+
+    def evaluate(self, expr: Expr, expected: Dims | None = None) -> SIValue:
+        if isinstance(expr, Num):
+            return self._number(expr, expected)
+        if isinstance(expr, Name):
+            if expr.name not in self.values:
+                known = list(self.values)
+                close = difflib.get_close_matches(expr.name, known, n=1)
+                hint = (
+                    f"did you mean '{close[0]}'?"
+                    if close
+                    else f"define it first with `let {expr.name} = ...`"
+                )
+                raise NetlistError(f"unknown parameter '{expr.name}'", expr.location, hint=hint)
+            return self.values[expr.name]
+        op = expr.op
+        if op == "pi":
+            return SIValue(sympy.pi, DIMENSIONLESS)
+        if op == "neg":
+            inner = self.evaluate(expr.args[0], expected)
+            return SIValue(-inner.value, inner.dims)
+        if op == "sqrt":
+            inner = self.evaluate(expr.args[0])
+            dims = power(inner.dims, Fraction(1, 2))
+            if dims is None:
+                raise NetlistError(
+                    f"the square root of {describe(inner.dims)} has no unit",
+                    expr.location,
+                    hint="take roots of quantities whose units are squares",
+                )
+            if inner.value.is_number and inner.value.is_negative:
+                raise NetlistError("square root of a negative value", expr.location)
+            return SIValue(sympy.sqrt(inner.value), dims)
+        left = self.evaluate(expr.args[0], expected if op in "+-" else None)
+        right = self.evaluate(expr.args[1], expected if op in "+-" else None)
+        if op in "+-":
+            if left.dims != right.dims:
+                raise NetlistError(
+                    f"cannot {'add' if op == '+' else 'subtract'} {describe(right.dims)} "
+                    f"{'to' if op == '+' else 'from'} {describe(left.dims)}",
+                    expr.location,
+                    hint="both sides of + and - need the same kind of unit",
+                )
+            value = left.value + right.value if op == "+" else left.value - right.value
+            return SIValue(value, left.dims)
+        if op == "*":
+            return SIValue(left.value * right.value, multiply(left.dims, right.dims))
+        if op == "/":
+            if right.value == 0:
+                raise NetlistError("division by zero", expr.location)
+            return SIValue(left.value / right.value, multiply(left.dims, right.dims, -1))
+        if op == "^":
+            if right.dims or not right.value.is_Rational:
+                raise NetlistError(
+                    "an exponent must be a plain rational number", expr.args[1].location
+                )
+            exponent = Fraction(int(right.value.p), int(right.value.q))
+            if abs(exponent) > 64:
+                raise NetlistError("exponent too large (the limit is 64)", expr.args[1].location)
+            dims = power(left.dims, exponent)
+            if dims is None:
+                raise NetlistError(
+                    f"{describe(left.dims)} to the power {exponent} has no unit", expr.location
+                )
+            if left.value == 0 and exponent < 0:
+                raise NetlistError("division by zero", expr.location)
+            return SIValue(left.value ** sympy.Rational(exponent.numerator, exponent.denominator),
+                           dims)
+        raise NetlistError(f"unknown operation {op}", expr.location)  # grammar prevents this
+
+    def _number(self, expr: Num, expected: Dims | None) -> SIValue:
+        value = sympy.Rational(expr.value.numerator, expr.value.denominator)
+        if expr.unit is None:
+            return SIValue(value, DIMENSIONLESS)
+        if expr.unit == "g" and expected == dims_of("m/s^2"):
+            # `38 g` where an acceleration is expected means standard gravity, not grams.
+            return SIValue(value * STANDARD_GRAVITY, expected)
+        try:
+            factor, dims = parse_unit(expr.unit)
+        except UnitError as exc:
+            where = expr.unit_location or expr.location
+            raise NetlistError(
+                str(exc),
+                Location(self.source, where.line, where.column + exc.offset, exc.width),
+                hint=exc.hint,
+            ) from None
+        return SIValue(value * factor, dims)
+
+
+# ---------------------------------------------------------------------------
+# Statement building
+
+
+def _kind_word(token) -> str:
+    return " ".join(str(token).split())
+
+
+class _ModelBuilder:
+    def __init__(self, source: str, text: str) -> None:
+        self.source = source
+        self.text = text
+        self.scope = _Scope(source)
+
+    def value(self, expr: Expr, unit: str, what: str, *, positive: bool = False) -> sympy.Expr:
+        expected = dims_of(unit)
+        result = self.scope.evaluate(expr, expected)
+        if result.dims != expected:
+            got = describe(result.dims)
+            want = describe(expected) if expected else "a plain number"
+            if not result.dims:
+                message = f"{what} needs a unit: expected {want}, got a plain number"
+                hint = f"add the unit after the number, e.g. `{_example_for(unit)}`"
+            else:
+                message = f"{what} must be in {want}, not {got}"
+                hint = f"write it in {want} (or a prefixed form), e.g. `{_example_for(unit)}`"
+            raise NetlistError(message, expr.location, hint=hint)
+        value = result.value
+        if positive and value.is_number and not (value > 0):
+            raise NetlistError(
+                f"{what} must be greater than zero, not {_show(value)}",
+                expr.location,
+                hint="a physical element has a positive value",
+            )
+        return value
+
+    def build(self, statements: list[RawStatement]) -> m.Netlist:
+        if len(statements) > MAX_STATEMENTS:
+            raise NetlistError(
+                f"too many statements ({len(statements)}; the limit is {MAX_STATEMENTS})",
+                statements[MAX_STATEMENTS].location,
+                hint="split the network into smaller files",
+            )
+        parameters = self._parameters([s for s in statements if s.tag.startswith("let")])
+        elements, couplings, watches, requirements, drops = [], [], [], [], []
+        window = gravity = None
+        band = sympy.Rational(2, 100)
+        for statement in statements:
+            tag, children, loc = statement.tag, statement.fields["children"], statement.location
+            if tag == "element":
+                elements.append(self._element(children, loc))
+            elif tag == "coupling":
+                couplings.append(self._coupling(children, loc))
+            elif tag == "watch":
+                watches.extend(self._quantity(q) for q in children)
+            elif tag == "window":
+                if window is not None:
+                    raise NetlistError(
+                        "a second window statement", loc,
+                        hint=f"keep one window (the first is on line {window.location.line})",
+                    )
+                window = self._window(children, loc)
+            elif tag == "require":
+                requirements.append(self._requirement(children, loc))
+            elif tag == "settling_band":
+                band = self._band(children[0])
+            elif tag == "gravity":
+                if gravity is not None:
+                    raise NetlistError(
+                        "a second gravity statement", loc,
+                        hint=f"keep one (the first is on line {gravity.location.line})",
+                    )
+                gravity = self._gravity(children, loc)
+            elif tag == "drop":
+                drops.append(
+                    m.Drop(str(children[0]), self.value(children[1], "m", "a drop height",
+                                                        positive=True), loc)
+                )
+        return m.Netlist(
+            source=self.source,
+            text=self.text,
+            parameters=tuple(parameters),
+            elements=tuple(elements),
+            couplings=tuple(couplings),
+            watches=tuple(watches),
+            requirements=tuple(requirements),
+            window=window,
+            settling_band=band,
+            gravity=gravity,
+            drops=tuple(drops),
+        )
+
+    def _parameters(self, statements: list[RawStatement]) -> list[m.Parameter]:
+        graph = nx.DiGraph()
+        by_name: dict[str, RawStatement] = {}
+        for statement in statements:
+            name_token = statement.fields["children"][0]
+            name = str(name_token)
+            if name in by_name:
+                first = by_name[name].location.line
+                raise NetlistError(
+                    f"parameter '{name}' is defined twice", _token_loc(self.source, name_token),
+                    hint=f"the first definition is on line {first}; keep one",
+                )
+            by_name[name] = statement
+            graph.add_node(name)
+        for name, statement in by_name.items():
+            if statement.tag == "let_value":
+                for used in _names(statement.fields["children"][1]):
+                    if used in by_name:
+                        graph.add_edge(used, name)
+        try:
+            order = list(nx.topological_sort(graph))
+        except nx.NetworkXUnfeasible:
+            cycle = [edge[0] for edge in nx.find_cycle(graph)]
+            first = by_name[cycle[0]]
+            raise NetlistError(
+                "parameters defined in a circle: " + " -> ".join(cycle + [cycle[0]]),
+                first.location,
+                hint="give one of them a value that does not depend on the others",
+            ) from None
+        parameters = []
+        for name in order:
+            statement = by_name[name]
+            children = statement.fields["children"]
+            if statement.tag == "let_value":
+                result = self.scope.evaluate(children[1])
+                parameter = m.Parameter(
+                    name, sympy.Symbol(name, positive=True), result.value,
+                    describe(result.dims) if result.dims else "", statement.location,
+                )
+            else:
+                unit_text = str(children[1]) if len(children) > 1 else ""
+                dims = DIMENSIONLESS
+                if unit_text:
+                    try:
+                        _, dims = parse_unit(unit_text)
+                    except UnitError as exc:
+                        raise NetlistError(
+                            str(exc), _token_loc(self.source, children[1]), hint=exc.hint
+                        ) from None
+                symbol = sympy.Symbol(name, positive=True)
+                # A free parameter is a symbol in SI units of its dimension.
+                result = SIValue(symbol, dims)
+                parameter = m.Parameter(
+                    name, symbol, None, describe(dims) if dims else "", statement.location
+                )
+            self.scope.values[name] = result
+            parameters.append(parameter)
+        # Keep the order of the file for display.
+        parameters.sort(key=lambda p: (p.location.line, p.location.column))
+        return parameters
+
+    def _placement(self, placement, name: str, kind: m.Kind, loc: Location) -> tuple[str, str]:
+        reference = kind.domain.reference
+        if placement is None:
+            if kind.value.one_terminal:
+                return name, reference
+            raise NetlistError(
+                f"{kind.word} '{name}' needs its nodes",
+                loc,
+                hint=f"write `{kind.word} {name} from NODE to NODE ...`"
+                + (" or `at NODE`" if kind.is_source else ""),
+            )
+        if placement[0] == "between":
+            a, b = str(placement[1]), str(placement[2])
+            if kind.value.one_terminal and reference not in (a, b):
+                raise NetlistError(
+                    f"a {kind.word} always connects to the {reference}",
+                    loc,
+                    hint=f"write `{kind.word} {name} at NODE ...`",
+                )
+            return a, b
+        node = str(placement[1])
+        if kind.role is m.Role.THROUGH_SOURCE:
+            return reference, node
+        return node, reference
+
+    def _element(self, children, loc: Location) -> m.Element:
+        kind_token, name_token = children[0], children[1]
+        kind = m.Kind.from_word(_kind_word(kind_token))
+        name = str(name_token)
+        rest = list(children[2:])
+        placement = rest.pop(0) if rest and isinstance(rest[0], tuple) and rest[0][0] in (
+            "between", "at") else None
+        positive, negative = self._placement(placement, name, kind, loc)
+        if kind.is_source:
+            waveform = self._waveform(rest[0], kind)
+            return m.Element(name, kind, positive, negative, None, waveform, None, loc)
+        value = self.value(rest[0], kind.value.value_unit, f"the value of {kind.word} '{name}'",
+                           positive=True)
+        initial = None
+        if len(rest) > 1:
+            initial_expr = rest[1][1]
+            if not kind.value.initial_unit:
+                raise NetlistError(
+                    f"a {kind.word} stores no energy, so it takes no initial condition",
+                    initial_expr.location,
+                    hint="initial conditions go on capacitors, inductors, masses, springs, "
+                    "inertias and torsion springs",
+                )
+            initial = self.value(initial_expr, kind.value.initial_unit,
+                                 f"the initial condition of {kind.word} '{name}'")
+        return m.Element(name, kind, positive, negative, value, None, initial, loc)
+
+    def _waveform(self, raw, kind: m.Kind) -> m.Waveform:
+        _, terms, loc = raw
+        unit = kind.value.value_unit
+        built = []
+        for term in terms:
+            shape: m.Shape = term["shape"]
+            amplitude_unit = unit
+            if shape is m.Shape.RAMP:
+                amplitude_unit = f"{unit}/s"
+            elif shape is m.Shape.IMPULSE:
+                amplitude_unit = f"{unit}*s"
+            amplitude = self.value(term["amplitude"], amplitude_unit,
+                                   f"the {shape.value} amplitude of {kind.word}")
+            fields = {"amplitude": amplitude, "location": term["location"]}
+            if "delay" in term:
+                delay = self.value(term["delay"], "s", "a delay")
+                if delay.is_number and delay < 0:
+                    raise NetlistError("a delay cannot be negative", term["delay"].location,
+                                       hint="sources start at t = 0 or later")
+                fields["delay"] = delay
+            if "duration" in term:
+                fields["duration"] = self.value(term["duration"], "s", "a duration", positive=True)
+            if "frequency" in term:
+                fields["frequency"] = self.value(term["frequency"], "Hz", "a frequency",
+                                                 positive=True)
+            if "phase" in term:
+                fields["phase"] = self.value(term["phase"], "", "a phase")
+            if "time_constant" in term:
+                fields["time_constant"] = self.value(term["time_constant"], "s", "a time constant",
+                                                     positive=True)
+            built.append(m.WaveformTerm(shape=shape, **fields))
+        return m.Waveform(tuple(built), loc)
+
+    def _coupling(self, children, loc: Location) -> m.Coupling:
+        kind = m.CouplingKind.from_word(str(children[0]))
+        name = str(children[1])
+        ports = []
+        for raw, domain in ((children[2], kind.input_domain), (children[3], kind.output_domain)):
+            positive, negative = raw
+            ports.append(m.Port(str(positive), str(negative) if negative else domain.reference))
+        word_token, expr = children[4]
+        word = str(word_token)
+        expected_word = {"rack": "radius", "motor": "constant"}.get(kind.word, "ratio")
+        if word != expected_word:
+            raise NetlistError(
+                f"a {kind.word} is given by its {expected_word}, not a {word}",
+                _token_loc(self.source, word_token),
+                hint=f"write `{expected_word} ...`",
+            )
+        if kind is m.CouplingKind.RACK:
+            radius = self.value(expr, "m", f"the radius of rack '{name}'", positive=True)
+            ratio = 1 / radius
+        elif kind is m.CouplingKind.MOTOR:
+            ratio = self.value(expr, "V*s/rad", f"the constant of motor '{name}'", positive=True)
+        else:
+            ratio = self.value(expr, "", f"the ratio of {kind.word} '{name}'", positive=True)
+        return m.Coupling(name, kind, ports[0], ports[1], ratio, loc)
+
+    def _quantity(self, raw: dict) -> m.Quantity:
+        kind = m.QuantityKind.from_word(raw["word"])
+        return m.Quantity(kind, str(raw["target"]), raw["preposition"], raw["location"])
+
+    def _window(self, children, loc: Location) -> m.Window:
+        if len(children) == 1:
+            start, stop = sympy.Integer(0), self.value(children[0], "s", "the window", positive=True)
+        else:
+            start = self.value(children[0], "s", "the window start")
+            stop = self.value(children[1], "s", "the window end", positive=True)
+        if start.is_number and start < 0:
+            raise NetlistError("the window cannot start before t = 0", children[0].location)
+        if start.is_number and stop.is_number and not stop > start:
+            raise NetlistError("the window must end after it starts", loc,
+                               hint="write `window START to STOP` with STOP > START")
+        return m.Window(start, stop, loc)
+
+    def _band(self, expr: Expr) -> sympy.Expr:
+        band = self.value(expr, "", "the settling band", positive=True)
+        if band.is_number and not band < 1:
+            raise NetlistError("the settling band must be below 100 %", expr.location,
+                               hint="a band such as `2 %` or `5 %`")
+        return band
+
+    def _requirement(self, children, loc: Location) -> m.Requirement:
+        words, band_expr, word_token = children[0]
+        figure = m.Figure.from_words(words)
+        quantity = self._quantity(children[1])
+        how, first, second = children[2]
+        if figure in (m.Figure.OVERSHOOT, m.Figure.UNDERSHOOT):
+            unit = ""
+        elif figure in (m.Figure.RISE_TIME, m.Figure.SETTLING_TIME):
+            unit = "s"
+        else:
+            unit = quantity.kind.unit
+        what = f"the bound on the {figure.value} of {quantity.label}"
+        lower = upper = None
+        if how == "below":
+            upper = self.value(first, unit, what)
+        elif how == "above":
+            lower = self.value(first, unit, what)
+        else:
+            lower, upper = self.value(first, unit, what), self.value(second, unit, what)
+            if lower.is_number and upper.is_number and not lower < upper:
+                raise NetlistError("the lower bound must be below the upper bound",
+                                   first.location, hint="write `between LOW and HIGH`")
+        band = self._band(band_expr) if band_expr is not None else None
+        shown_unit = "%" if figure in (m.Figure.OVERSHOOT, m.Figure.UNDERSHOOT) else unit
+        return m.Requirement(figure, quantity, lower, upper, shown_unit, band, loc)
+
+    def _gravity(self, children, loc: Location) -> m.Gravity:
+        acceleration = STANDARD_GRAVITY
+        start = m.GravityStart.UNLOADED
+        for child in children:
+            if isinstance(child, tuple):
+                start = m.GravityStart(child[1])
+            else:
+                acceleration = self.value(child, "m/s^2", "gravity", positive=True)
+        return m.Gravity(acceleration, start, loc)
+
+
+def _token_loc(source: str, token) -> Location:
+    width = max(1, len(str(token)))
+    return Location(source, getattr(token, "line", 1) or 1, getattr(token, "column", 1) or 1,
+                    width)
+
+
+_EXAMPLE_VALUES = {
+    "ohm": "2.2 kohm", "H": "10 uH", "F": "4.7 uF", "V": "12 V", "A": "2 A", "kg": "350 kg",
+    "N/m": "22 kN/m", "N*s/m": "1.8 kN*s/m", "N": "100 N", "m/s": "1.5 m/s", "m": "30 mm",
+    "kg*m^2": "0.02 kg*m^2", "N*m/rad": "150 N*m/rad", "N*m*s/rad": "0.01 N*m*s/rad",
+    "N*m": "2 N*m", "rad/s": "100 rad/s", "s": "200 us", "Hz": "50 Hz", "m/s^2": "9.81 m/s^2",
+    "V*s/rad": "0.05 V*s/rad",
+}
+
+
+def _example_for(unit: str) -> str:
+    return _EXAMPLE_VALUES.get(unit, f"1 {unit}" if unit else "2")
+
+
+def _show(value: sympy.Expr) -> str:
+    try:
+        return f"{float(value):g}"
+    except TypeError:
+        return str(value)
+
+
+# ---------------------------------------------------------------------------
+# Entry points
+
+
+def parse_text(text: str | bytes, source: str = "<text>") -> m.Netlist:
+    """Parse netlist text into a model (syntax, units and values checked).
+
+    Parameters
+    ----------
+    text : str or bytes
+        The netlist.  Bytes are decoded as UTF-8 (a byte-order mark is skipped).
+    source : str
+        Name used in messages, usually the file name.
+
+    Returns
+    -------
+    Netlist
+        The model; topology is checked separately by :func:`lumped.topology.validate`.
+
+    Raises
+    ------
+    NetlistError
+        For any problem in the text, with its location.
+
+    Examples
+    --------
+    >>> net = parse_text("resistor R1 from a to ground 2.2 kohm\\n")
+    >>> net.elements[0].value
+    2200
+    """
+    prepared = _prepare(text, source)
+    try:
+        tree = parser().parse(prepared)
+    except UnexpectedInput as error:
+        raise _error_from_lark(error, prepared, source) from None
+    try:
+        statements = _Builder(source).transform(tree)
+        return _ModelBuilder(source, prepared).build(statements)
+    except NetlistError as error:
+        raise error.with_text(prepared) from None
+    except RecursionError:
+        raise NetlistError(
+            "the expression is nested too deeply", Location(source, 1, 1),
+            hint="name parts of the expression with let",
+        ) from None
+
+
+def load_file(path: str | Path) -> m.Netlist:
+    """Read a netlist file and parse it.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "rc.lumped"
+    >>> _ = p.write_text("resistor R from a to ground 1 kohm\\n")
+    >>> load_file(p).elements[0].name
+    'R'
+    """
+    path = Path(path)
+    try:
+        data = path.read_bytes()
+    except FileNotFoundError:
+        raise NetlistError(f"no such file: {path}", hint="check the path") from None
+    except IsADirectoryError:
+        raise NetlistError(f"{path} is a folder, not a netlist file",
+                           hint=f"name a {FILE_EXTENSION} file") from None
+    except OSError as exc:
+        raise NetlistError(f"cannot read {path}: {exc.strerror}", hint="check the path") from None
+    return parse_text(data, str(path))

@@ -1,0 +1,191 @@
+"""Units: exact SI factors and dimensions for the unit words of a netlist.
+
+pint knows the unit names, prefixes and definitions; this module asks it one
+unit word at a time (``kN``, ``s``, ``m``) and combines them by the ``*``, ``/``
+and ``^`` the grammar has already split out, so no netlist text is ever handed
+to an expression evaluator.  Factors become exact rationals from pint's
+decimal definitions.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+from functools import cache
+
+import sympy
+
+Dims = tuple[tuple[str, int], ...]
+DIMENSIONLESS: Dims = ()
+
+# Standard gravity, exact by definition (CGPM 1901).
+STANDARD_GRAVITY = sympy.Rational(980665, 100000)
+
+_ATOM = re.compile(r"(%|(?:µ|Ω|°|[A-Za-z])[A-Za-z0-9µΩ°_]*)(?:\^(-?\d+))?$")
+_SPLIT = re.compile(r"([*/·])")
+
+
+class UnitError(ValueError):
+    """A unit word pint does not know; ``offset``/``width`` point into the unit text."""
+
+    def __init__(self, message: str, offset: int, width: int, hint: str) -> None:
+        super().__init__(message)
+        self.offset = offset
+        self.width = width
+        self.hint = hint
+
+
+@cache
+def registry():
+    """The shared pint registry (built once: it takes a noticeable fraction of a second)."""
+    import pint
+
+    return pint.UnitRegistry()
+
+
+def _exact(value: float) -> sympy.Rational:
+    fraction = Fraction(repr(float(value)))
+    return sympy.Rational(fraction.numerator, fraction.denominator)
+
+
+def _normalise(dimensionality) -> Dims:
+    return tuple(sorted((str(k), int(v)) for k, v in dict(dimensionality).items() if v))
+
+
+@cache
+def _atom(word: str) -> tuple[sympy.Rational, Dims]:
+    ureg = registry()
+    if word in ("%",):
+        word = "percent"
+    candidates = ureg.parse_unit_name(word)
+    if not candidates:
+        raise KeyError(word)
+    prefix, name, suffix = candidates[0]
+    unit = ureg.Unit(prefix + name + suffix)
+    quantity = (1 * unit).to_base_units()
+    return _exact(quantity.magnitude), _normalise(quantity.dimensionality)
+
+
+@cache
+def parse_unit(text: str) -> tuple[sympy.Rational, Dims]:
+    """Return the exact SI factor and the dimensions of a unit written like ``kN*s/m``.
+
+    Examples
+    --------
+    >>> parse_unit("kN*s/m")[0]
+    1000
+    >>> parse_unit("uF")[0]
+    1/1000000
+    """
+    factor = sympy.Integer(1)
+    dims: dict[str, int] = {}
+    sign = 1
+    offset = 0
+    for piece in _SPLIT.split(text):
+        if piece in ("*", "·"):
+            sign = 1
+        elif piece == "/":
+            sign = -1
+        elif piece:
+            match = _ATOM.match(piece)
+            if match is None:
+                raise UnitError(f"cannot read unit '{piece}'", offset, len(piece), _UNIT_HINT)
+            word, power = match.group(1), int(match.group(2) or 1)
+            try:
+                atom_factor, atom_dims = _atom(word)
+            except KeyError:
+                raise UnitError(
+                    f"unknown unit '{word}'", offset, len(word), _suggest_unit(word)
+                ) from None
+            exponent = sign * power
+            factor *= atom_factor**exponent
+            for dim, exp in atom_dims:
+                dims[dim] = dims.get(dim, 0) + exp * exponent
+        offset += len(piece)
+    return factor, tuple(sorted((k, v) for k, v in dims.items() if v))
+
+
+_UNIT_HINT = "write units such as V, mA, uF, kohm, kN/m, N*s/m, kg*m^2, rad/s, lbf/in"
+
+
+def _suggest_unit(word: str) -> str:
+    import difflib
+
+    common = [
+        "V", "mV", "kV", "A", "mA", "ohm", "kohm", "F", "uF", "nF", "pF", "H", "mH", "uH",
+        "s", "ms", "us", "ns", "Hz", "kHz", "MHz", "m", "mm", "kg", "g", "N", "kN", "rad",
+        "deg", "rpm", "lbf", "inch", "lb", "W", "J", "percent",
+    ]
+    close = difflib.get_close_matches(word, common, n=3, cutoff=0.5)
+    if close:
+        return "did you mean " + " or ".join(repr(c) for c in close) + "?"
+    return _UNIT_HINT
+
+
+@cache
+def dims_of(si_unit: str) -> Dims:
+    """Dimensions of an SI unit written by the tool itself (``"N*s/m"``, ``""``)."""
+    if not si_unit:
+        return DIMENSIONLESS
+    return parse_unit(si_unit)[1]
+
+
+# Named units used to describe a dimension back to the user.
+_NAMED = (
+    "V", "A", "ohm", "F", "H", "s", "Hz", "m", "kg", "N", "m/s", "m/s^2", "N/m", "N*s/m",
+    "kg*m^2", "N*m", "N*m/rad", "N*m*s/rad", "V*s/rad", "W", "J", "V/s", "A/s", "V*s", "A*s",
+    "N*s", "m*s", "N/s", "m/s^3",
+)
+
+
+def describe(dims: Dims) -> str:
+    """A readable unit for dimensions: a named SI unit where one fits, else base units.
+
+    Examples
+    --------
+    >>> describe(dims_of("kN/m"))
+    'N/m'
+    >>> describe(())
+    'a plain number'
+    """
+    if not dims:
+        return "a plain number"
+    for name in _NAMED:
+        if dims_of(name) == dims:
+            return name
+    base = {"[length]": "m", "[mass]": "kg", "[time]": "s", "[current]": "A",
+            "[temperature]": "K", "[substance]": "mol", "[luminosity]": "cd"}
+    top = [f"{base.get(d, d)}" + (f"^{e}" if e != 1 else "") for d, e in dims if e > 0]
+    bottom = [f"{base.get(d, d)}" + (f"^{-e}" if e != -1 else "") for d, e in dims if e < 0]
+    text = "*".join(top) or "1"
+    if bottom:
+        text += "/" + "/".join(bottom)
+    return text
+
+
+def multiply(a: Dims, b: Dims, power: int = 1) -> Dims:
+    """Dimensions of ``a * b**power``."""
+    dims = dict(a)
+    for dim, exp in b:
+        dims[dim] = dims.get(dim, 0) + exp * power
+    return tuple(sorted((k, v) for k, v in dims.items() if v))
+
+
+def power(a: Dims, exponent: Fraction) -> Dims | None:
+    """Dimensions of ``a**exponent``, or None when a fractional power leaves them fractional."""
+    result = []
+    for dim, exp in a:
+        value = exp * exponent
+        if value.denominator != 1:
+            return None
+        result.append((dim, int(value)))
+    return tuple(sorted((k, v) for k, v in result if v))
+
+
+@dataclass(frozen=True)
+class SIValue:
+    """An exact magnitude in coherent SI units with its dimensions."""
+
+    value: sympy.Expr
+    dims: Dims
