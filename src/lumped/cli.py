@@ -7,12 +7,13 @@ Exit status: 0 every requirement passes, 1 a requirement fails, 2 bad input
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
 from .errors import LumpedError, NetlistError
 
-EXIT_PASS, EXIT_FAIL, EXIT_BAD_INPUT = 0, 1, 2
+EXIT_PASS, EXIT_FAIL, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
 _DESCRIPTION = """\
 Solve a lumped electrical or mechanical network exactly: read a netlist
@@ -72,6 +73,14 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
+    except Exception as error:  # noqa: BLE001 - a bug must not reach the user as a traceback
+        if os.environ.get("LUMPED_DEBUG"):
+            raise
+        print(f"lumped: internal error while working on {args.netlist}: "
+              f"{type(error).__name__}: {error}\n"
+              "this is a bug in lumped, not in your netlist; run with LUMPED_DEBUG=1 for "
+              "details and report it with the netlist", file=sys.stderr)
+        return EXIT_INTERNAL
 
 
 def _run(args: argparse.Namespace) -> int:

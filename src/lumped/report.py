@@ -140,3 +140,281 @@ def network_summary(netlist: m.Netlist) -> str:
     for drop in netlist.drops:
         lines.append(f"  drop of {drop.mass} from {exact_value(drop.height, 'm')}")
     return "\n".join(lines)
+
+
+# ---------------------------------------------------------------------------
+# The full report
+
+_WIDTH = 80
+_MAX_TERMS = 8
+
+
+class _ShortFloats(sympy.printing.str.StrPrinter):
+    """Prints numbers to a few significant figures for reading; JSON keeps full precision."""
+
+    def __init__(self, digits: int = 4) -> None:
+        super().__init__()
+        self.digits = digits
+
+    def _print_Float(self, expr) -> str:  # noqa: N802 - sympy's printer protocol
+        return f"{float(expr):.{self.digits}g}".replace("e+0", "e").replace("e-0", "e-").replace(
+            "e+", "e")
+
+    def _print_Rational(self, expr) -> str:  # noqa: N802
+        if expr.q == 1:
+            return self._print_Float(sympy.Float(expr.p)) if abs(expr.p) >= 10**5 else str(expr.p)
+        return self._print_Float(sympy.Float(expr))
+
+    _print_Integer = _print_Rational
+
+
+def numeric(expr: sympy.Expr, digits: int = 15) -> sympy.Expr:
+    """Evaluate every constant part of an expression (roots, pi, fractions) to floats."""
+    if expr.is_Integer:
+        return expr
+    if expr.is_number:
+        return sympy.Float(expr.evalf(digits), digits) if expr.is_real is not False \
+            else expr.evalf(digits)
+    if not expr.args:
+        return expr
+    return expr.func(*[numeric(arg, digits) for arg in expr.args])
+
+
+def short_formula(expr: sympy.Expr, digits: int = 4) -> str:
+    """A readable one-line form of an expression: numbers to ``digits`` figures.
+
+    Examples
+    --------
+    >>> t = sympy.Symbol("t")
+    >>> short_formula(sympy.Rational(1, 3) * sympy.exp(-t / 7))
+    '0.3333*exp(-0.1429*t)'
+    """
+    return _ShortFloats(digits).doprint(numeric(expr))
+
+
+def _wrap(prefix: str, text: str, width: int = _WIDTH) -> list[str]:
+    import textwrap
+
+    indent = " " * len(prefix)
+    return textwrap.wrap(text, width=width, initial_indent=prefix, subsequent_indent=indent,
+                         break_long_words=True, break_on_hyphens=False) or [prefix]
+
+
+def _terms(expr: sympy.Expr) -> tuple[str, int]:
+    terms = sympy.Add.make_args(expr)
+    if len(terms) <= _MAX_TERMS:
+        return short_formula(expr), 0
+    shown = sympy.Add(*terms[:_MAX_TERMS], evaluate=False)
+    return short_formula(shown) + " + ...", len(terms) - _MAX_TERMS
+
+
+def _rule(title: str, colour) -> str:
+    text = f"── {title} "
+    return colour(text + "─" * max(3, _WIDTH - len(text)), "bold")
+
+
+def _figure_rows(result) -> list[tuple[str, str]]:
+    figs = result.figures
+    unit = result.unit
+    rows: list[tuple[str, str]] = []
+    # Rounding noise of the float evaluation is shown as zero.
+    scale = max((abs(e.value) for e in (figs.peak, figs.minimum) if e is not None), default=0.0)
+
+    def clean(value: float | None) -> float | None:
+        if value is not None and abs(value) < 1e-9 * scale:
+            return 0.0
+        return value
+
+    def add(name: str, text: str | None, key: str | None = None) -> None:
+        if text is not None:
+            rows.append((name, text))
+        elif key and key in figs.reasons:
+            rows.append((name, figs.reasons[key]))
+
+    def at(extremum) -> str | None:
+        if extremum is None:
+            return None
+        return f"{engineering(clean(extremum.value), unit)} at {engineering(extremum.time, 's')}"
+
+    add("value at 0+", engineering(clean(figs.initial), unit) if figs.initial is not None
+        else None, "initial")
+    add("final value", engineering(clean(figs.final), unit) if figs.final is not None else None,
+        "final")
+    add("peak", at(figs.peak), "peak")
+    add("minimum", at(figs.minimum), "minimum")
+    if figs.peak_g is not None or figs.minimum_g is not None:
+        add("peak in g", f"{figs.peak_g:.3g} g / minimum {figs.minimum_g:.3g} g"
+            if figs.peak_g is not None and figs.minimum_g is not None else None)
+    if figs.max_travel is not None:
+        add("maximum travel", engineering(figs.max_travel, unit))
+    add("overshoot", f"{figs.overshoot * 100:.3g} %" if figs.overshoot is not None else None,
+        "overshoot")
+    add("undershoot", f"{figs.undershoot * 100:.3g} %" if figs.undershoot is not None else None,
+        "undershoot")
+    add("rise time 10-90 %", engineering(figs.rise_time, "s") if figs.rise_time is not None
+        else None, "rise_time")
+    add(f"settling ±{figs.band * 100:g} %", engineering(figs.settling_time, "s")
+        if figs.settling_time is not None else None, "settling_time")
+    add("time constant", engineering(figs.time_constant, "s") if figs.time_constant else None)
+    if figs.natural_frequency:
+        zeta = f", damping ratio {figs.damping_ratio:.3g}" if figs.damping_ratio is not None else ""
+        add("dominant pair", f"fn {engineering(figs.natural_frequency / (2 * math.pi), 'Hz')}"
+            f"{zeta}")
+    if figs.ringing_frequency_hz:
+        add("ringing", engineering(figs.ringing_frequency_hz, "Hz"))
+    for impulse in figs.impulses:
+        add("impulse", f"order {impulse.order}, weight {complex(impulse.weight).real:.4g} at "
+            f"{engineering(float(impulse.delay), 's')}")
+    return rows
+
+
+def _merge_reasons(rows: list[tuple[str, str]]) -> list[tuple[str, str]]:
+    """Rows that give the same explanation are said once, under all their names."""
+    merged: list[tuple[str, str]] = []
+    for name, value in rows:
+        if merged and merged[-1][1] == value and not value[:1].isdigit():
+            merged[-1] = (f"{merged[-1][0]}, {name}", value)
+        else:
+            merged.append((name, value))
+    result = []
+    for name, value in merged:
+        if len(name) > 20:
+            result.append((name, ""))
+            result.append(("", value))
+        else:
+            result.append((name, value))
+    return result
+
+
+def _bound_text(verdict) -> str:
+    requirement = verdict.requirement
+    unit = requirement.unit
+
+    def show(value):
+        if value is None:
+            return None
+        if unit == "%":
+            return f"{value * 100:.3g} %"
+        return engineering(value, unit)
+
+    lower, upper = show(verdict.lower), show(verdict.upper)
+    if requirement.quantity.kind is m.QuantityKind.ACCELERATION:
+        lower = lower and f"{lower} ({verdict.lower / 9.80665:.3g} g)"
+        upper = upper and f"{upper} ({verdict.upper / 9.80665:.3g} g)"
+    if lower and upper:
+        return f"between {lower} and {upper}"
+    if upper:
+        return f"below {upper}"
+    return f"above {lower}"
+
+
+def verdict_line(verdict, colour=lambda text, _style: text) -> str:
+    """One line per requirement: PASS/FAIL, what, value, margin."""
+    requirement = verdict.requirement
+    unit = requirement.unit
+    mark = {True: colour("PASS", "green"), False: colour("FAIL", "red"),
+            None: colour("????", "yellow")}[verdict.passed]
+    what = f"{requirement.figure.value} of {requirement.quantity.label} {_bound_text(verdict)}"
+    if verdict.value is None:
+        got = verdict.reason
+    else:
+        value = f"{verdict.value * 100:.3g} %" if unit == "%" else engineering(verdict.value, unit)
+        if requirement.quantity.kind is m.QuantityKind.ACCELERATION:
+            value += f" ({verdict.value / 9.80665:.3g} g)"
+        margin = ""
+        if verdict.margin is not None:
+            margin_text = (f"{verdict.margin * 100:.3g} %" if unit == "%"
+                           else engineering(verdict.margin, unit))
+            margin = f", margin {margin_text}"
+        got = f"is {value}{margin}"
+    line = requirement.location.line if requirement.location else "?"
+    return f"  {mark}  {what} (line {line})\n        {got}"
+
+
+def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
+    """The plain-text report of an analysis (80 columns; ANSI colour when asked).
+
+    Examples
+    --------
+    >>> from lumped.api import loads
+    >>> from lumped.analysis import analyse
+    >>> net = loads("current source I at a step 1 mA\\nresistor R from a to ground 1 kohm\\n"
+    ...             "capacitor C from a to ground 1 uF\\nwatch voltage at a\\nwindow 10 ms\\n")
+    >>> "final value" in render(analyse(net))
+    True
+    """
+    styles = {"bold": "1", "green": "32;1", "red": "31;1", "yellow": "33;1", "dim": "2"}
+
+    def colour(text: str, style: str) -> str:
+        return f"\x1b[{styles[style]}m{text}\x1b[0m" if color else text
+
+    out: list[str] = []
+    if not quiet:
+        out.append(network_summary(analysis.netlist))
+        chosen = " (chosen from the slowest time constant)" if analysis.window_chosen else ""
+        out.append(f"Window {engineering(analysis.start, 's')} to "
+                   f"{engineering(analysis.stop, 's')}{chosen}")
+        for note in analysis.notes:
+            out.extend(_wrap("  note: ", note))
+        for result in analysis.results:
+            out.append("")
+            out.append(_rule(f"{result.quantity.label} [{_PRETTY_UNIT.get(result.unit, result.unit)}]",
+                             colour))
+            text, more = _terms(result.response.transform)
+            out.extend(_wrap("  X(s) = ", text + (f"  (+{more} more terms)" if more else "")))
+            if result.time is None:
+                out.extend(_wrap("  x(t): ", result.problem or "not available"))
+                continue
+            text, more = _terms(result.time.expression)
+            out.extend(_wrap("  x(t) = ", text + (f"  (+{more} more terms; the full form is in "
+                                                  "--json / --latex)" if more else "")))
+            out.append("         for t ≥ 0")
+            if result.figures is None:
+                out.extend(_wrap("  figures: ", result.problem or "not available"))
+                continue
+            for name, value in _merge_reasons(_figure_rows(result)):
+                out.extend(_wrap(f"    {name:<20} ", value))
+        for drop in analysis.drops:
+            out.append("")
+            out.append(_rule(f"drop of {drop.mass} from {engineering(drop.height, 'm')}", colour))
+            rows = [("contact velocity", engineering(drop.contact_velocity, "m/s"))]
+            if drop.max_compression is not None:
+                rows.append(("maximum compression", f"{engineering(drop.max_compression, 'm')} "
+                             f"at {engineering(drop.compression_time, 's')}"))
+            if drop.peak_deceleration is not None:
+                rows.append(("peak deceleration", f"{drop.peak_deceleration / 9.80665:.3g} g "
+                             f"({engineering(drop.peak_deceleration, 'm/s^2')}) at "
+                             f"{engineering(drop.deceleration_time, 's')}"))
+            if drop.separation_time is not None:
+                rows.append(("leaves the surface", f"at {engineering(drop.separation_time, 's')},"
+                             f" rebounding at {engineering(drop.rebound_velocity, 'm/s')}"))
+            else:
+                rows.append(("leaves the surface", "not within the window"))
+            for name, value in rows:
+                out.extend(_wrap(f"    {name:<20} ", value))
+        if analysis.dissipation:
+            out.append("")
+            out.append(_rule("energy dissipated over the window", colour))
+            for item in analysis.dissipation:
+                out.append(f"    {item.element:<20} {engineering(item.energy, 'J')}")
+    if analysis.verdicts:
+        out.append("")
+        out.append(_rule("requirements", colour))
+        for verdict in analysis.verdicts:
+            head, detail = verdict_line(verdict, colour).split("\n", 1)
+            out.extend(_wrap("", head))
+            out.extend(_wrap("        ", detail.strip()))
+    if not quiet:
+        out.append("")
+        out.append(_rule("cautions", colour))
+        for caution in analysis.cautions:
+            out.extend(_wrap("  ! ", caution))
+    out.append("")
+    passed = sum(1 for v in analysis.verdicts if v.passed)
+    total = len(analysis.verdicts)
+    if total:
+        summary = f"{passed} of {total} requirements pass"
+        out.append(colour(summary, "green" if passed == total else "red"))
+    else:
+        out.append("no requirements stated")
+    return "\n".join(line.rstrip() for line in out)

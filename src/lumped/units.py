@@ -41,6 +41,17 @@ def registry():
     """The shared pint registry (built once: it takes a noticeable fraction of a second)."""
     import pint
 
+    from .cachedir import cache_folder
+
+    # pint can keep its parsed definitions in a cache; that saves most of the
+    # registry's build time on every later run.  Without a writable cache
+    # folder it simply builds them each time.
+    folder = cache_folder("pint")
+    if folder is not None:
+        try:
+            return pint.UnitRegistry(cache_folder=folder)
+        except Exception:  # noqa: BLE001 - any cache trouble: fall back to a plain build
+            pass
     return pint.UnitRegistry()
 
 
@@ -53,8 +64,42 @@ def _normalise(dimensionality) -> Dims:
     return tuple(sorted((str(k), int(v)) for k, v in dict(dimensionality).items() if v))
 
 
+def _scale(value: float | int) -> sympy.Rational:
+    """A definition's scale as a rational: ``0.0254`` stays decimal, ``1/36`` is recovered."""
+    exact = _exact(value)
+    if len(repr(float(value)).lstrip("-0.").replace(".", "").split("e")[0]) >= 15:
+        simple = Fraction(repr(float(value))).limit_denominator(10**6)
+        if float(simple) == float(value):
+            return sympy.Rational(simple.numerator, simple.denominator)
+    return exact
+
+
 @cache
-def _atom(word: str) -> tuple[sympy.Rational, Dims]:
+def _definition_factor(name: str) -> sympy.Expr:
+    """Exact SI factor of a pint unit, following its definition chain with rationals.
+
+    pint multiplies its decimal definitions in floating point (a foot is a third
+    of a yard, a pound-force is g_0 times a pound), which would leave factors a
+    rounding error away from their exact values; ``π`` stays symbolic.
+    """
+    ureg = registry()
+    name = ureg.get_name(name)
+    if name == "pi":
+        return sympy.pi
+    definition = ureg._units[name]
+    if not definition.converter.is_multiplicative:
+        raise KeyError(name)  # offset or logarithmic units (degC, dB) have no factor
+    if definition.is_base:
+        return sympy.Rational(1, 1000) if name == "gram" else sympy.Integer(1)
+    factor = _scale(definition.converter.scale)
+    for reference, exponent in definition.reference.items():
+        if not reference.startswith("["):
+            factor *= _definition_factor(reference) ** sympy.Rational(str(exponent))
+    return factor
+
+
+@cache
+def _atom(word: str) -> tuple[sympy.Expr, Dims]:
     ureg = registry()
     if word in ("%",):
         word = "percent"
@@ -63,8 +108,15 @@ def _atom(word: str) -> tuple[sympy.Rational, Dims]:
         raise KeyError(word)
     prefix, name, suffix = candidates[0]
     unit = ureg.Unit(prefix + name + suffix)
+    if not ureg._units[name].converter.is_multiplicative:
+        raise KeyError(word)
     quantity = (1 * unit).to_base_units()
-    return _exact(quantity.magnitude), _normalise(quantity.dimensionality)
+    factor = _definition_factor(name)
+    if prefix:
+        factor *= _scale(ureg._prefixes[prefix].converter.scale)
+    if abs(float(factor) - float(quantity.magnitude)) > 1e-12 * abs(float(quantity.magnitude)):
+        factor = _exact(quantity.magnitude)  # a definition this walk does not understand
+    return factor, _normalise(quantity.dimensionality)
 
 
 @cache

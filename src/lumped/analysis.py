@@ -1,0 +1,427 @@
+"""Run every stage for a netlist: responses, closed forms, figures, verdicts, cautions.
+
+Examples
+--------
+>>> from lumped.api import loads
+>>> net = loads('''
+... voltage source V at a step 10 V
+... resistor R from a to b 1 kohm
+... capacitor C from b to ground 1 uF
+... watch voltage at b
+... window 5 ms
+... require final value of voltage at b between 9.9 V and 10.1 V
+... ''')
+>>> result = analyse(net)
+>>> round(result.results[0].figures.final, 6)
+10.0
+>>> result.passed
+True
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import sympy
+
+from . import model as m
+from .equations import Response, Solution, assemble, s
+from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
+from .inversion import ParametersNeeded, TimeResponse, invert
+from .topology import validate
+from .units import STANDARD_GRAVITY
+
+# Extra-low-voltage limit for DC (common practice, from memory: 60 V ripple-free DC).
+ELV_DC_LIMIT = 60.0
+# Irrational numbers (pi from a sine's frequency, sqrt(2 g h) from a drop) are
+# carried into the inversion as rationals of this many significant digits.
+IRRATIONAL_DIGITS = 40
+_MAX_DISSIPATORS = 12
+
+GENERAL_CAUTION = (
+    "These results describe an idealised linear lumped model. Applicable standards, local "
+    "codes, physical testing and licensed engineering review govern any design where a "
+    "voltage, stored energy, a drop or a suspension can hurt someone."
+)
+
+
+@dataclass(frozen=True)
+class QuantityResult:
+    """One watched quantity: s-domain response, closed form and figures."""
+
+    quantity: m.Quantity
+    response: Response
+    time: TimeResponse | None
+    figures: Figures | None
+    problem: str | None = None  # why there is no time response (parameters need values)
+
+    @property
+    def unit(self) -> str:
+        return self.response.unit
+
+
+@dataclass(frozen=True)
+class Dissipation:
+    element: str
+    energy: float  # joules over the window
+
+
+@dataclass(frozen=True)
+class DropResult:
+    """What a drop does to the body (SI; compression positive)."""
+
+    mass: str
+    height: float
+    contact_velocity: float
+    max_compression: float | None
+    compression_time: float | None
+    peak_deceleration: float | None  # m/s^2, upwards
+    deceleration_time: float | None
+    separation_time: float | None  # when the contact force would turn tensile
+    rebound_velocity: float | None
+
+
+@dataclass(frozen=True)
+class Analysis:
+    """Everything the report needs about one netlist."""
+
+    netlist: m.Netlist
+    solution: Solution
+    start: float
+    stop: float
+    results: tuple[QuantityResult, ...]
+    verdicts: tuple[Verdict, ...]
+    cautions: tuple[str, ...]
+    notes: tuple[str, ...] = ()
+    dissipation: tuple[Dissipation, ...] = ()
+    stored_energy: float | None = None  # joules at t = 0
+    drops: tuple[DropResult, ...] = ()
+    window_chosen: bool = False
+    extra: dict = field(default_factory=dict)
+
+    @property
+    def passed(self) -> bool:
+        """True when no requirement failed (an unjudgeable one counts as failed)."""
+        return all(v.passed for v in self.verdicts)
+
+    def result(self, label: str) -> QuantityResult:
+        """The result for a quantity label such as ``'voltage at sw'``."""
+        for item in self.results:
+            if item.quantity.label == label:
+                return item
+        raise KeyError(label)
+
+
+def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr:
+    """Replace irrational constants (pi, square roots) by rationals of ``digits`` digits.
+
+    Examples
+    --------
+    >>> x = sympy.Symbol("x")
+    >>> rationalise(sympy.pi * x, 5)
+    3927*x/1250
+    """
+
+    def walk(node: sympy.Expr) -> sympy.Expr:
+        if node.is_Rational or node.is_Symbol:
+            return node
+        if node.is_number:
+            value = sympy.Float(node.evalf(digits + 5), digits)
+            if value.is_real is False or node.is_real is False:
+                return node
+            return sympy.Rational(str(value))
+        if not node.args:
+            return node
+        return node.func(*[walk(arg) for arg in node.args])
+
+    return walk(expr)
+
+
+def _invert(response: Response) -> TimeResponse:
+    return invert(rationalise(response.transform), s)
+
+
+def _default_window(times: list[TimeResponse], netlist: m.Netlist) -> tuple[float, float]:
+    slowest = 0.0
+    delays = [0.0]
+    ringing = []
+    for time in times:
+        for mode in time.modes:
+            delays.append(float(mode.delay))
+            if mode.time_constant is not None and math.isfinite(mode.time_constant):
+                slowest = max(slowest, mode.time_constant)
+            if mode.ringing_frequency and mode.ringing_frequency > 0:
+                ringing.append(2 * math.pi / mode.ringing_frequency)
+    for element in netlist.elements:
+        for term in element.waveform.terms if element.waveform else ():
+            if term.delay.is_number:
+                delays.append(float(term.delay))
+    if slowest > 0:
+        span = 6 * slowest
+    elif ringing:
+        span = 10 * max(ringing)
+    else:
+        span = 1.0
+    return 0.0, max(delays) + span
+
+
+def _quantities(netlist: m.Netlist) -> list[m.Quantity]:
+    seen: dict[str, m.Quantity] = {}
+    for quantity in (*netlist.watches, *(r.quantity for r in netlist.requirements)):
+        seen.setdefault(quantity.label, quantity)
+    return list(seen.values())
+
+
+def analyse(netlist: m.Netlist, *, samples_hint: int = 0) -> Analysis:
+    """Solve a validated netlist and measure every watched or required quantity.
+
+    Parameters
+    ----------
+    netlist : Netlist
+        From :func:`lumped.api.load` or :func:`lumped.api.loads`.
+
+    Returns
+    -------
+    Analysis
+    """
+    validate(netlist)
+    solution = assemble(netlist)
+    quantities = _quantities(netlist)
+    if not quantities:
+        quantities = _default_quantities(netlist)
+    responses = [solution.response(q) for q in quantities]
+    times: list[TimeResponse | None] = []
+    problems: list[str | None] = []
+    for response in responses:
+        try:
+            times.append(_invert(response))
+            problems.append(None)
+        except ParametersNeeded as needed:
+            times.append(None)
+            names = ", ".join(sorted(str(p) for p in needed.parameters))
+            problems.append(f"the time response needs values for {names} "
+                            "(the denominator is above second order in s)")
+    window_chosen = netlist.window is None or not (
+        netlist.window.start.is_number and netlist.window.stop.is_number)
+    if window_chosen:
+        start, stop = _default_window([t for t in times if t is not None], netlist)
+    else:
+        start, stop = float(netlist.window.start), float(netlist.window.stop)
+    band = float(netlist.settling_band)
+    results = []
+    for quantity, response, time, problem in zip(quantities, responses, times, problems,
+                                                 strict=True):
+        figures = None
+        if time is not None and not time.parameters:
+            figures = compute_figures(time, start, stop, band=band, kind=quantity.kind)
+        elif time is not None and problem is None:
+            names = ", ".join(sorted(str(p) for p in time.parameters))
+            problem = f"figures need values for {names}"
+        results.append(QuantityResult(quantity, response, time, figures, problem))
+    by_label = {r.quantity.label: r for r in results}
+    verdicts = []
+    for requirement in netlist.requirements:
+        result = by_label[requirement.quantity.label]
+        if result.figures is None:
+            verdicts.append(Verdict(requirement, None, None, None, None, None,
+                                    result.problem or "no figures"))
+        else:
+            verdicts.append(judge(requirement, result.figures, result.time))
+    dissipation = _dissipation(netlist, solution, start, stop)
+    stored = _stored_energy(netlist)
+    drops = _drop_figures(netlist, solution, start, stop)
+    cautions = _cautions(netlist, results, verdicts, drops)
+    return Analysis(
+        netlist=netlist,
+        solution=solution,
+        start=start,
+        stop=stop,
+        results=tuple(results),
+        verdicts=tuple(verdicts),
+        cautions=tuple(cautions),
+        notes=tuple(getattr(solution, "notes", ())),
+        dissipation=tuple(dissipation),
+        drops=tuple(drops),
+        stored_energy=stored,
+        window_chosen=window_chosen,
+    )
+
+
+def _default_quantities(netlist: m.Netlist) -> list[m.Quantity]:
+    """Without watch lines: the across value of every node."""
+    words = {m.Domain.ELECTRICAL: m.QuantityKind.VOLTAGE,
+             m.Domain.TRANSLATIONAL: m.QuantityKind.DISPLACEMENT,
+             m.Domain.ROTATIONAL: m.QuantityKind.ANGULAR_VELOCITY}
+    topology = validate(netlist)
+    return [m.Quantity(words[domain], node, "at") for node, domain in topology.domains.items()
+            if node not in m.REFERENCE_NODES]
+
+
+def _dissipation(netlist: m.Netlist, solution: Solution, start: float,
+                 stop: float) -> list[Dissipation]:
+    dissipators = [e for e in netlist.elements if e.kind.role is m.Role.DISSIPATOR]
+    if len(dissipators) > _MAX_DISSIPATORS:
+        return []
+    found = []
+    for element in dissipators:
+        if element.value is None or element.value.free_symbols:
+            continue
+        through = {m.Domain.ELECTRICAL: m.QuantityKind.CURRENT,
+                   m.Domain.TRANSLATIONAL: m.QuantityKind.FORCE,
+                   m.Domain.ROTATIONAL: m.QuantityKind.TORQUE}[element.domain]
+        response = solution.response(m.Quantity(through, element.name, "in"))
+        try:
+            time = _invert(response)
+        except ParametersNeeded:
+            continue
+        if time.parameters:
+            continue
+        value = float(element.value)
+        # Resistors: R i^2.  Dampers: F^2 / c (the value is the damping coefficient).
+        coefficient = value if element.domain is m.Domain.ELECTRICAL else 1 / value
+        found.append(Dissipation(element.name, energy_dissipated(time, coefficient, start, stop)))
+    return found
+
+
+def _stored_energy(netlist: m.Netlist, domains=None) -> float | None:
+    """Energy held at t = 0 by the stores' initial conditions and the drops (joules)."""
+    total = sympy.Integer(0)
+    for element in netlist.elements:
+        if domains is not None and element.domain not in domains:
+            continue
+        if element.initial is None or element.value is None:
+            continue
+        if element.kind.role is m.Role.ACROSS_STORE:
+            total += element.value * element.initial**2 / 2
+        elif element.kind.role is m.Role.THROUGH_STORE:
+            compliance = element.value if element.domain is m.Domain.ELECTRICAL \
+                else 1 / element.value
+            total += compliance * element.initial**2 / 2
+    for drop in netlist.drops if domains is None or m.Domain.TRANSLATIONAL in domains else ():
+        mass = netlist.element(drop.mass)
+        g = netlist.gravity.acceleration if netlist.gravity else STANDARD_GRAVITY
+        if mass is not None and mass.value is not None:
+            total += mass.value * g * drop.height
+    if total.free_symbols:
+        return None
+    return float(total)
+
+
+def _cautions(netlist, results, verdicts, drops) -> list[str]:
+    cautions = []
+    highest = 0.0
+    for element in netlist.elements:
+        if element.kind is m.Kind.VOLTAGE_SOURCE:
+            for term in element.waveform.terms:
+                if term.amplitude.is_number:
+                    highest = max(highest, abs(float(term.amplitude)))
+        if element.kind is m.Kind.CAPACITOR and element.initial is not None \
+                and element.initial.is_number:
+            highest = max(highest, abs(float(element.initial)))
+    for result in results:
+        if result.quantity.kind is m.QuantityKind.VOLTAGE and result.figures is not None \
+                and result.figures.magnitude is not None:
+            highest = max(highest, abs(result.figures.magnitude.value))
+    if highest > ELV_DC_LIMIT:
+        cautions.append(
+            f"Voltages reach {highest:.4g} V, beyond the extra-low-voltage range (about 60 V "
+            "DC, common practice): treat the circuit as hazardous; insulation, clearances, "
+            "discharge paths and interlocks follow the applicable electrical safety standards."
+        )
+    electrical = _stored_energy(netlist, {m.Domain.ELECTRICAL})
+    mechanical = _stored_energy(netlist, {m.Domain.TRANSLATIONAL, m.Domain.ROTATIONAL})
+    if electrical is not None and electrical > 1.0:
+        cautions.append(
+            f"The capacitors and inductors hold {electrical:.4g} J at t = 0: enough to burn or "
+            "shock. Provide discharge paths and protection as the electrical standards require."
+        )
+    if mechanical is not None and mechanical > 1.0:
+        cautions.append(
+            f"The moving and wound-up parts hold {mechanical:.4g} J at t = 0 (kinetic and "
+            "elastic energy): enough to injure. Guard, contain and test as the machinery "
+            "standards require."
+        )
+    for drop in drops:
+        if drop.separation_time is not None:
+            cautions.append(
+                f"The contact force on {drop.mass} turns tensile at t = "
+                f"{drop.separation_time:.4g} s: a real body would leave the surface there "
+                f"(rebound at {drop.rebound_velocity:.3g} m/s), and the results after that "
+                "instant do not hold."
+            )
+    for verdict in verdicts:
+        requirement = verdict.requirement
+        if requirement is None or verdict.passed is not False:
+            continue
+        if requirement.quantity.kind in (m.QuantityKind.DISPLACEMENT, m.QuantityKind.ANGLE) \
+                and requirement.figure in (m.Figure.PEAK, m.Figure.MINIMUM, m.Figure.MAGNITUDE):
+            cautions.append(
+                f"The travel of {requirement.quantity.target} goes beyond the stated limit "
+                f"(line {requirement.location.line if requirement.location else '?'}): a real "
+                "mechanism would hit its stop, and the linear model no longer holds after that."
+            )
+    if any(e.domain is not m.Domain.ELECTRICAL for e in netlist.elements):
+        cautions.append(
+            "Mechanical results assume linear springs and dampers, rigid masses and small "
+            "motions; suspensions, mounts and drops that protect people or goods need physical "
+            "testing."
+        )
+    cautions.append(GENERAL_CAUTION)
+    return cautions
+
+
+def _drop_figures(netlist: m.Netlist, solution: Solution, start: float,
+                  stop: float) -> list[DropResult]:
+    """Compression, deceleration and rebound of each dropped body.
+
+    Newton on the body: m·a = F_contact − m·g, so the contact force pulls
+    (a real body would leave the surface) once a < −g.
+    """
+    import numpy as np
+
+    found = []
+    g = float(netlist.gravity.acceleration) if netlist.gravity else float(STANDARD_GRAVITY)
+    for drop in netlist.drops:
+        mass = netlist.element(drop.mass)
+        if mass is None:
+            continue
+        node = mass.positive
+        try:
+            parts = {kind: _invert(solution.response(m.Quantity(kind, node, "of")))
+                     for kind in (m.QuantityKind.ACCELERATION, m.QuantityKind.DISPLACEMENT,
+                                  m.QuantityKind.VELOCITY)}
+        except ParametersNeeded:
+            continue
+        if any(p.parameters for p in parts.values()):
+            continue
+        acceleration = parts[m.QuantityKind.ACCELERATION]
+        grid = np.linspace(0.0, stop, 20001)
+        pulling = np.nonzero(acceleration.evaluate(grid) + g < -1e-9 * g)[0]
+        separation = None
+        if pulling.size:
+            low, high = grid[max(pulling[0] - 1, 0)], grid[pulling[0]]
+            for _ in range(60):  # bisection on the closed form
+                middle = 0.5 * (low + high)
+                if acceleration.evaluate(np.array([middle]))[0] + g < 0:
+                    high = middle
+                else:
+                    low = middle
+            separation = high
+        end = separation if separation is not None and separation > 0 else stop
+        travel = compute_figures(parts[m.QuantityKind.DISPLACEMENT], 0.0, end)
+        decel = compute_figures(acceleration, 0.0, end)
+        velocity = parts[m.QuantityKind.VELOCITY]
+        found.append(DropResult(
+            mass=drop.mass,
+            height=float(drop.height),
+            contact_velocity=float(velocity.evaluate(np.array([0.0]))[0]),
+            max_compression=-travel.minimum.value if travel.minimum else None,
+            compression_time=travel.minimum.time if travel.minimum else None,
+            peak_deceleration=decel.peak.value if decel.peak else None,
+            deceleration_time=decel.peak.time if decel.peak else None,
+            separation_time=separation,
+            rebound_velocity=float(velocity.evaluate(np.array([separation]))[0])
+            if separation is not None else None,
+        ))
+    return found
