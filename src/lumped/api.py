@@ -3,7 +3,8 @@
 Examples
 --------
 >>> from lumped.api import loads
->>> net = loads("resistor R from a to ground 1 kohm\\ncapacitor C from a to ground 1 uF, initially 5 V\\n")
+>>> net = loads("resistor R from a to ground 1 kohm\\n"
+...             "capacitor C from a to ground 1 uF, initially 5 V\\n")
 >>> [e.name for e in net.elements]
 ['R', 'C']
 """

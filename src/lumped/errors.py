@@ -52,7 +52,8 @@ class NetlistError(LumpedError):
     Examples
     --------
     >>> err = NetlistError("unknown unit 'uFF'", Location("f.lumped", 2, 20, 3),
-    ...                    hint="write a unit such as uF", line_text="capacitor C1 from a to ground 4.7 uFF")
+    ...                    hint="write a unit such as uF",
+    ...                    line_text="capacitor C1 from a to ground 4.7 uFF")
     >>> print(err.render())  # doctest: +NORMALIZE_WHITESPACE
     f.lumped:2:20: unknown unit 'uFF'
         capacitor C1 from a to ground 4.7 uFF
@@ -77,7 +78,9 @@ class NetlistError(LumpedError):
     def with_text(self, text: str) -> NetlistError:
         """Fill in the offending line from the whole netlist text."""
         if self.location is not None and not self.line_text:
-            lines = text.splitlines()
+            # Only "\n" ends a line (as for the parser): str.splitlines would also
+            # split at form feeds, U+2028 and the like and show the wrong line.
+            lines = text.split("\n")
             if 1 <= self.location.line <= len(lines):
                 self.line_text = lines[self.location.line - 1]
         return self

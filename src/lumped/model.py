@@ -26,6 +26,7 @@ from .errors import Location
 GROUND = "ground"
 FRAME = "frame"
 REFERENCE_NODES = (GROUND, FRAME)
+ZERO = sympy.Integer(0)  # sympy integers are immutable, so a shared default is safe
 
 
 class Domain(Enum):
@@ -83,7 +84,9 @@ class Kind(Enum):
     SPRING = KindInfo("spring", Domain.TRANSLATIONAL, Role.THROUGH_STORE, "N/m", "N")
     DAMPER = KindInfo("damper", Domain.TRANSLATIONAL, Role.DISSIPATOR, "N*s/m", "")
     FORCE_SOURCE = KindInfo("force source", Domain.TRANSLATIONAL, Role.THROUGH_SOURCE, "N", "")
-    VELOCITY_SOURCE = KindInfo("velocity source", Domain.TRANSLATIONAL, Role.ACROSS_SOURCE, "m/s", "")
+    VELOCITY_SOURCE = KindInfo(
+        "velocity source", Domain.TRANSLATIONAL, Role.ACROSS_SOURCE, "m/s", ""
+    )
     DISPLACEMENT_SOURCE = KindInfo(
         "displacement source", Domain.TRANSLATIONAL, Role.ACROSS_SOURCE, "m", ""
     )
@@ -178,10 +181,10 @@ class WaveformTerm:
 
     shape: Shape
     amplitude: sympy.Expr
-    delay: sympy.Expr = sympy.Integer(0)
+    delay: sympy.Expr = ZERO
     duration: sympy.Expr | None = None
     frequency: sympy.Expr | None = None  # hertz
-    phase: sympy.Expr = sympy.Integer(0)  # radians
+    phase: sympy.Expr = ZERO  # radians
     time_constant: sympy.Expr | None = None
     location: Location | None = None
 

@@ -160,7 +160,7 @@ def to_json(analysis) -> str:
             entry["time_domain"] = str(result.time.expression)
             try:
                 entry["amplitude_phase"] = str(result.time.amplitude_phase())
-            except Exception:  # noqa: BLE001 - the alternative form is optional
+            except Exception:
                 entry["amplitude_phase"] = None
             entry["modes"] = _modes_json(result.time)
             entry["impulses"] = [

@@ -19,7 +19,12 @@ from pathlib import Path
 import networkx as nx
 import sympy
 from lark import Lark, Token, Transformer, Tree, v_args
-from lark.exceptions import UnexpectedCharacters, UnexpectedEOF, UnexpectedInput, UnexpectedToken
+from lark.exceptions import (
+    UnexpectedCharacters,
+    UnexpectedEOF,
+    UnexpectedInput,
+    VisitError,
+)
 
 from . import model as m
 from .errors import Location, NetlistError
@@ -43,6 +48,8 @@ MAX_BYTES = 2_000_000
 MAX_STATEMENTS = 5_000
 MAX_NESTING = 200
 MAX_LINE = 20_000
+MAX_EXPONENT = 600  # largest power of ten written in a number (1e600)
+MAX_BITS = 2_048  # largest numerator or denominator of an exact value (about 600 digits)
 
 KEYWORDS = (
     "let", "resistor", "inductor", "capacitor", "voltage source", "current source", "mass",
@@ -68,14 +75,19 @@ def _grammar_text() -> str:
 
 @cache
 def parser() -> Lark:
-    """The lark parser for the netlist language (built once)."""
-    return Lark(
-        _grammar_text(),
-        parser="lalr",
-        lexer="contextual",
-        propagate_positions=True,
-        maybe_placeholders=False,
-    )
+    """The lark parser for the netlist language (built once; tables cached on disk)."""
+    from .cachedir import cache_folder
+
+    options = {"parser": "lalr", "lexer": "contextual", "propagate_positions": True,
+               "maybe_placeholders": False}
+    folder = cache_folder("grammar")
+    if folder is not None:
+        try:
+            # lark keys the cache file on the grammar text and options.
+            return Lark(_grammar_text(), cache=str(folder / "lumped.lark.cache"), **options)
+        except Exception:
+            pass
+    return Lark(_grammar_text(), **options)
 
 
 # ---------------------------------------------------------------------------
@@ -84,7 +96,7 @@ def parser() -> Lark:
 
 @dataclass(frozen=True)
 class Num:
-    value: Fraction
+    value: str  # the number as written; made exact (and checked) when evaluated
     unit: str | None
     location: Location
     unit_location: Location | None = None
@@ -148,7 +160,7 @@ class _Builder(Transformer):
     # arithmetic ---------------------------------------------------------------
     @v_args(meta=True)
     def number(self, meta, children):
-        value = Fraction(str(children[0]))
+        value = str(children[0])
         if len(children) > 1:
             return Num(value, str(children[1]), self._loc(meta), self._loc(children[1]))
         return Num(value, None, self._loc(meta))
@@ -318,7 +330,8 @@ _EXAMPLES: dict[str, list[str]] = {
         "let a = 2 )\n",
         "resistor R1 from a to b (2 ohm\n",
     ],
-    "missing name: every element needs a name right after its kind, e.g. `resistor R1 from a to b 1 ohm`": [
+    "missing name: every element needs a name right after its kind, "
+    "e.g. `resistor R1 from a to b 1 ohm`": [
         "resistor from a to b 1 ohm\n",
         "capacitor at a 1 uF\n",
     ],
@@ -366,7 +379,7 @@ def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistE
     width = 1
     token = getattr(error, "token", None)
     if isinstance(error, UnexpectedEOF) or (token is not None and token.type == "$END"):
-        lines = text.splitlines() or [""]
+        lines = text[:-1].split("\n") if text.endswith("\n") else text.split("\n")
         line = len(lines)
         column = len(lines[-1]) + 1
     if token is not None and token.type not in ("$END", "_NL"):
@@ -406,6 +419,10 @@ def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, 
         return None
     before = lines[line - 1][: column - 1]
     words = list(re.finditer(r"[A-Za-z_][A-Za-z0-9_]*", before))
+    # The word the parser stopped in counts too (`initialy` stops at its `in`).
+    here = re.compile(r"[A-Za-z_][A-Za-z0-9_]*").match(lines[line - 1], column - 1)
+    if here is not None and before[-1:].strip() == "" and here.start() == column - 1:
+        words.append(here)
     for match in reversed(words[-2:]):
         word = match.group(0)
         if word in _INNER_WORDS or word in KEYWORDS:
@@ -457,7 +474,7 @@ def _at_line_start(error: UnexpectedInput) -> bool:
     if interactive is not None:
         try:
             return len(interactive.parser_state.value_stack) == 0 or all(
-                isinstance(v, Token) and v.type == "_NL" or isinstance(v, Tree)
+                (isinstance(v, Token) and v.type == "_NL") or isinstance(v, Tree)
                 for v in interactive.parser_state.value_stack
             )
         except AttributeError:
@@ -509,6 +526,7 @@ def _prepare(data: bytes | str, source: str) -> str:
                 f"the file is too large ({len(data)} bytes; the limit is {MAX_BYTES})",
                 Location(source, 1, 1),
                 hint="split the network or check that this is the right file",
+                line_text=data[:200].split(b"\n")[0].decode("utf-8", "replace"),
             )
         if data.startswith(b"\xef\xbb\xbf"):
             data = data[3:]
@@ -516,11 +534,16 @@ def _prepare(data: bytes | str, source: str) -> str:
             text = data.decode("utf-8")
         except UnicodeDecodeError as exc:
             line = data[: exc.start].count(b"\n") + 1
-            column = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
+            line_start = data.rfind(b"\n", 0, exc.start) + 1
+            line_end = data.find(b"\n", exc.start)
+            # Columns count characters; everything before the bad byte decodes.
+            column = len(data[line_start : exc.start].decode("utf-8")) + 1
             raise NetlistError(
                 f"this is not UTF-8 text (byte 0x{data[exc.start]:02x})",
                 Location(source, line, column),
                 hint="a netlist is a plain text file; save it as UTF-8",
+                line_text=data[line_start : line_end if line_end >= 0 else len(data)].decode(
+                    "utf-8", "replace"),
             ) from None
     else:
         text = data.lstrip("\ufeff")
@@ -529,6 +552,7 @@ def _prepare(data: bytes | str, source: str) -> str:
                 f"the text is too large ({len(text)} characters; the limit is {MAX_BYTES})",
                 Location(source, 1, 1),
                 hint="split the network",
+                line_text=text[:200].split("\n")[0],
             )
     text = text.replace("\r\n", "\n").replace("\r", "\n")
     depth = 0
@@ -607,7 +631,8 @@ class _Scope:
                     hint="take roots of quantities whose units are squares",
                 )
             if inner.value.is_number and inner.value.is_negative:
-                raise NetlistError("square root of a negative value", expr.location)
+                raise NetlistError("square root of a negative value", expr.location,
+                                   hint="the value under sqrt(...) must not be negative")
             return SIValue(sympy.sqrt(inner.value), dims)
         left = self.evaluate(expr.args[0], expected if op in "+-" else None)
         right = self.evaluate(expr.args[1], expected if op in "+-" else None)
@@ -620,34 +645,51 @@ class _Scope:
                     hint="both sides of + and - need the same kind of unit",
                 )
             value = left.value + right.value if op == "+" else left.value - right.value
-            return SIValue(value, left.dims)
+            return SIValue(_bounded(value, expr.location), left.dims)
         if op == "*":
-            return SIValue(left.value * right.value, multiply(left.dims, right.dims))
+            return SIValue(_bounded(left.value * right.value, expr.location),
+                           multiply(left.dims, right.dims))
         if op == "/":
             if right.value == 0:
-                raise NetlistError("division by zero", expr.location)
-            return SIValue(left.value / right.value, multiply(left.dims, right.dims, -1))
+                raise NetlistError("division by zero", expr.location,
+                                   hint="the divisor works out to zero")
+            return SIValue(_bounded(left.value / right.value, expr.location),
+                           multiply(left.dims, right.dims, -1))
         if op == "^":
             if right.dims or not right.value.is_Rational:
                 raise NetlistError(
-                    "an exponent must be a plain rational number", expr.args[1].location
+                    "an exponent must be a plain rational number", expr.args[1].location,
+                    hint="write a power without a unit, such as `^2` or `^-1`",
                 )
             exponent = Fraction(int(right.value.p), int(right.value.q))
             if abs(exponent) > 64:
-                raise NetlistError("exponent too large (the limit is 64)", expr.args[1].location)
+                raise NetlistError("exponent too large (the limit is 64)", expr.args[1].location,
+                                   hint="name parts of the expression with let")
             dims = power(left.dims, exponent)
             if dims is None:
                 raise NetlistError(
-                    f"{describe(left.dims)} to the power {exponent} has no unit", expr.location
+                    f"{describe(left.dims)} to the power {exponent} has no unit", expr.location,
+                    hint="a fractional power needs a unit whose exponents it divides",
                 )
             if left.value == 0 and exponent < 0:
-                raise NetlistError("division by zero", expr.location)
+                raise NetlistError("division by zero", expr.location,
+                                   hint="zero cannot be raised to a negative power")
+            if _bits(left.value) * abs(exponent.numerator) > MAX_BITS:
+                raise _too_large(expr.location)
             return SIValue(left.value ** sympy.Rational(exponent.numerator, exponent.denominator),
                            dims)
-        raise NetlistError(f"unknown operation {op}", expr.location)  # grammar prevents this
+        raise NetlistError(f"unknown operation {op}", expr.location,  # grammar prevents this
+                           hint="use + - * / ^ and parentheses")
 
     def _number(self, expr: Num, expected: Dims | None) -> SIValue:
-        value = sympy.Rational(expr.value.numerator, expr.value.denominator)
+        _, _, exponent = expr.value.lower().partition("e")
+        if exponent and abs(int(exponent)) > MAX_EXPONENT:
+            raise NetlistError(
+                f"the number {expr.value} is out of range (the limit is 1e{MAX_EXPONENT})",
+                expr.location, hint="use a prefixed unit or a smaller power of ten",
+            )
+        exact = Fraction(expr.value)
+        value = _bounded(sympy.Rational(exact.numerator, exact.denominator), expr.location)
         if expr.unit is None:
             return SIValue(value, DIMENSIONLESS)
         if expr.unit == "g" and expected == dims_of("m/s^2"):
@@ -663,6 +705,29 @@ class _Scope:
                 hint=exc.hint,
             ) from None
         return SIValue(value * factor, dims)
+
+
+def _bits(value: sympy.Expr) -> int:
+    """Size of the exact rational part of a value (numerator or denominator, in bits)."""
+    coefficient = value if value.is_Rational else value.as_coeff_Mul()[0]
+    if not coefficient.is_Rational:
+        return 0
+    return max(int(coefficient.p).bit_length(), int(coefficient.q).bit_length())
+
+
+def _too_large(location: Location) -> NetlistError:
+    return NetlistError(
+        f"a value in this expression is too large to handle exactly (more than about "
+        f"{MAX_BITS * 3 // 10} digits)", location,
+        hint="check the powers of ten and the units",
+    )
+
+
+def _bounded(value: sympy.Expr, location: Location) -> sympy.Expr:
+    """Refuse exact values too large to work with (they would stall the algebra)."""
+    if _bits(value) > MAX_BITS:
+        raise _too_large(location)
+    return value
 
 
 # ---------------------------------------------------------------------------
@@ -782,7 +847,7 @@ class _ModelBuilder:
             cycle = [edge[0] for edge in nx.find_cycle(graph)]
             first = by_name[cycle[0]]
             raise NetlistError(
-                "parameters defined in a circle: " + " -> ".join(cycle + [cycle[0]]),
+                "parameters defined in a circle: " + " -> ".join([*cycle, cycle[0]]),
                 first.location,
                 hint="give one of them a value that does not depend on the others",
             ) from None
@@ -934,12 +999,14 @@ class _ModelBuilder:
 
     def _window(self, children, loc: Location) -> m.Window:
         if len(children) == 1:
-            start, stop = sympy.Integer(0), self.value(children[0], "s", "the window", positive=True)
+            start = sympy.Integer(0)
+            stop = self.value(children[0], "s", "the window", positive=True)
         else:
             start = self.value(children[0], "s", "the window start")
             stop = self.value(children[1], "s", "the window end", positive=True)
         if start.is_number and start < 0:
-            raise NetlistError("the window cannot start before t = 0", children[0].location)
+            raise NetlistError("the window cannot start before t = 0", children[0].location,
+                               hint="write `window START to STOP` with START >= 0")
         if start.is_number and stop.is_number and not stop > start:
             raise NetlistError("the window must end after it starts", loc,
                                hint="write `window START to STOP` with STOP > START")
@@ -953,7 +1020,7 @@ class _ModelBuilder:
         return band
 
     def _requirement(self, children, loc: Location) -> m.Requirement:
-        words, band_expr, word_token = children[0]
+        words, band_expr, _word_token = children[0]
         figure = m.Figure.from_words(words)
         quantity = self._quantity(children[1])
         how, first, second = children[2]
@@ -1051,7 +1118,11 @@ def parse_text(text: str | bytes, source: str = "<text>") -> m.Netlist:
     except UnexpectedInput as error:
         raise _error_from_lark(error, prepared, source) from None
     try:
-        statements = _Builder(source).transform(tree)
+        try:
+            statements = _Builder(source).transform(tree)
+        except VisitError as error:
+            # lark wraps what goes wrong inside a transformer callback.
+            raise error.orig_exc from None
         return _ModelBuilder(source, prepared).build(statements)
     except NetlistError as error:
         raise error.with_text(prepared) from None

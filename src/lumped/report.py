@@ -165,13 +165,15 @@ class _ShortFloats(sympy.printing.str.StrPrinter):
             return self._print_Float(sympy.Float(expr.p)) if abs(expr.p) >= 10**5 else str(expr.p)
         return self._print_Float(sympy.Float(expr))
 
-    _print_Integer = _print_Rational
+    _print_Integer = _print_Rational  # noqa: N815 - sympy's printer protocol
 
 
 def numeric(expr: sympy.Expr, digits: int = 15) -> sympy.Expr:
     """Evaluate every constant part of an expression (roots, pi, fractions) to floats."""
     if expr.is_Integer:
         return expr
+    if expr.is_Pow and expr.exp.is_Rational:
+        return sympy.Pow(numeric(expr.base, digits), expr.exp)
     if expr.is_number:
         return sympy.Float(expr.evalf(digits), digits) if expr.is_real is not False \
             else expr.evalf(digits)
@@ -206,6 +208,16 @@ def _terms(expr: sympy.Expr) -> tuple[str, int]:
         return short_formula(expr), 0
     shown = sympy.Add(*terms[:_MAX_TERMS], evaluate=False)
     return short_formula(shown) + " + ...", len(terms) - _MAX_TERMS
+
+
+def _cases(expr: sympy.Expr) -> list[tuple[sympy.Expr, sympy.Expr]]:
+    """Split ``rest + Piecewise(...)`` into one closed form per case, with its condition."""
+    terms = sympy.Add.make_args(expr)
+    pieces = [t for t in terms if isinstance(t, sympy.Piecewise)]
+    if len(pieces) != 1:
+        return []
+    rest = sympy.Add(*[t for t in terms if t is not pieces[0]])
+    return [(branch + rest, condition) for branch, condition in pieces[0].args]
 
 
 def _rule(title: str, colour) -> str:
@@ -297,10 +309,25 @@ def _bound_text(verdict) -> str:
             return f"{value * 100:.3g} %"
         return engineering(value, unit)
 
-    lower, upper = show(verdict.lower), show(verdict.upper)
+    def bound(value, exact):
+        if value is not None:
+            return value
+        if exact is not None and not exact.free_symbols:
+            return float(exact)
+        return None
+
+    lower_value = bound(verdict.lower, requirement.lower)
+    upper_value = bound(verdict.upper, requirement.upper)
+    lower, upper = show(lower_value), show(upper_value)
+    if lower is None and requirement.lower is not None:
+        lower = short_formula(requirement.lower)
+    if upper is None and requirement.upper is not None:
+        upper = short_formula(requirement.upper)
     if requirement.quantity.kind is m.QuantityKind.ACCELERATION:
-        lower = lower and f"{lower} ({verdict.lower / 9.80665:.3g} g)"
-        upper = upper and f"{upper} ({verdict.upper / 9.80665:.3g} g)"
+        if lower_value is not None:
+            lower = f"{lower} ({lower_value / 9.80665:.3g} g)"
+        if upper_value is not None:
+            upper = f"{upper} ({upper_value / 9.80665:.3g} g)"
     if lower and upper:
         return f"between {lower} and {upper}"
     if upper:
@@ -358,16 +385,26 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
             out.extend(_wrap("  note: ", note))
         for result in analysis.results:
             out.append("")
-            out.append(_rule(f"{result.quantity.label} [{_PRETTY_UNIT.get(result.unit, result.unit)}]",
-                             colour))
+            unit = _PRETTY_UNIT.get(result.unit, result.unit)
+            out.append(_rule(f"{result.quantity.label} [{unit}]", colour))
             text, more = _terms(result.response.transform)
             out.extend(_wrap("  X(s) = ", text + (f"  (+{more} more terms)" if more else "")))
             if result.time is None:
                 out.extend(_wrap("  x(t): ", result.problem or "not available"))
                 continue
-            text, more = _terms(result.time.expression)
-            out.extend(_wrap("  x(t) = ", text + (f"  (+{more} more terms; the full form is in "
-                                                  "--json / --latex)" if more else "")))
+            cases = _cases(result.time.expression)
+            if cases:
+                for branch, condition in cases:
+                    out.extend(_wrap("  x(t) = ", short_formula(branch)))
+                    if isinstance(condition, sympy.Equality):
+                        shown = f"{short_formula(condition.lhs)} = {short_formula(condition.rhs)}"
+                    else:
+                        shown = short_formula(condition)
+                    out.extend(_wrap("         when ", shown))
+            else:
+                text, more = _terms(result.time.expression)
+                out.extend(_wrap("  x(t) = ", text + (f"  (+{more} more terms; the full form "
+                                                      "is in --json / --latex)" if more else "")))
             out.append("         for t ≥ 0")
             if result.figures is None:
                 out.extend(_wrap("  figures: ", result.problem or "not available"))

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import difflib
 from dataclasses import dataclass
+from itertools import pairwise
 
 import networkx as nx
 
@@ -151,7 +152,7 @@ def _check_across_loops(netlist: m.Netlist) -> None:
             a, b = _datum(element.positive), _datum(element.negative)
             if graph.has_node(a) and graph.has_node(b) and nx.has_path(graph, a, b):
                 path = nx.shortest_path(graph, a, b)
-                loop = [graph.get_edge_data(u, v) for u, v in zip(path, path[1:], strict=False)]
+                loop = [graph.get_edge_data(u, v) for u, v in pairwise(path)]
                 others = [next(iter(data)) for data in loop]
                 _fail(netlist, f"{element.kind.word} '{element.name}' closes a loop of ideal "
                       f"across sources with " + ", ".join(f"'{o}'" for o in others),
@@ -175,7 +176,7 @@ def _check_through_cutsets(netlist: m.Netlist) -> None:
     for coupling in netlist.couplings:
         ends = [_datum(n) for p in (coupling.input, coupling.output)
                 for n in (p.positive, p.negative)]
-        for u, v in zip(ends, ends[1:], strict=False):
+        for u, v in pairwise(ends):
             graph.add_edge(u, v)
     reachable = nx.node_connected_component(graph, _DATUM)
     for element in netlist.elements:

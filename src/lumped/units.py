@@ -50,7 +50,7 @@ def registry():
     if folder is not None:
         try:
             return pint.UnitRegistry(cache_folder=folder)
-        except Exception:  # noqa: BLE001 - any cache trouble: fall back to a plain build
+        except Exception:
             pass
     return pint.UnitRegistry()
 
