@@ -195,3 +195,46 @@ def test_good_input_through_a_separate_process(tmp_path):
 def test_the_cases_are_distinct():
     contents = [c[1] for c in LOCATED + WHOLE_FILE]
     assert len(set(contents)) == len(contents) >= 35
+
+
+# --- values given on the command line ------------------------------------------------
+
+SYMBOLIC_RC = (
+    "let R in ohm\n"
+    "voltage source V at a step 10 V\n"
+    "resistor R1 from a to b R\n"
+    "capacitor C from b to ground 1 uF\n"
+    "watch voltage at b\n"
+    "window 1 ms\n"
+)
+
+
+@pytest.mark.parametrize(
+    "setting, message",
+    [
+        ("R=10uF", "the value given for 'R' is in F, but the netlist uses it as ohm"),
+        ("Q=10ohm", "'Q' is not a parameter of this netlist"),
+        ("R=(10 ohm", "unbalanced parentheses"),
+        ("R", "is not NAME=VALUE"),
+    ],
+    ids=["wrong-unit", "unknown-name", "unbalanced", "no-equals"],
+)
+def test_bad_set_values_exit_2_with_a_message(tmp_path, capsys, setting, message) -> None:
+    netlist = tmp_path / "rc.lumped"
+    netlist.write_text(SYMBOLIC_RC)
+    before = sorted(p.name for p in tmp_path.iterdir())
+    status = main([str(netlist), "--set", setting, "--json", str(tmp_path / "out.json")])
+    err = capsys.readouterr().err
+    assert status == 2
+    assert message in err
+    assert "Traceback" not in err
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+
+
+def test_set_value_gives_a_free_parameter_its_value(tmp_path, capsys) -> None:
+    # RC charging (common practice): v(t) = 10 V (1 - exp(-t / RC)); at t = RC it is 6.32 V.
+    netlist = tmp_path / "rc.lumped"
+    netlist.write_text(SYMBOLIC_RC + "require final value of voltage at b above 9.9 V\n")
+    status = main([str(netlist), "--set", "R=1 kohm", "--quiet"])
+    assert status == 0
+    assert "PASS" in capsys.readouterr().out

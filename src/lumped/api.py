@@ -19,7 +19,7 @@ from .parse import load_file, parse_text
 from .topology import validate
 
 
-def loads(text: str, source: str = "<text>") -> m.Netlist:
+def loads(text: str, source: str = "<text>", values: dict[str, str] | None = None) -> m.Netlist:
     """Parse and validate netlist text.
 
     Examples
@@ -27,12 +27,12 @@ def loads(text: str, source: str = "<text>") -> m.Netlist:
     >>> loads("resistor R from a to ground 1 ohm\\n").elements[0].value
     1
     """
-    netlist = parse_text(text, source)
+    netlist = parse_text(text, source, values)
     validate(netlist)
     return netlist
 
 
-def load(path: str | Path) -> m.Netlist:
+def load(path: str | Path, values: dict[str, str] | None = None) -> m.Netlist:
     """Read, parse and validate a netlist file.
 
     Examples
@@ -43,7 +43,7 @@ def load(path: str | Path) -> m.Netlist:
     >>> load(p).elements[0].kind.word
     'resistor'
     """
-    netlist = load_file(path)
+    netlist = load_file(path, values)
     validate(netlist)
     return netlist
 

@@ -49,6 +49,9 @@ def _arguments() -> argparse.ArgumentParser:
     parser.add_argument("--csv", metavar="FILE", help="write sampled waveforms as CSV")
     parser.add_argument("--plot", metavar="FILE", help="draw the waveforms (.png or .svg)")
     parser.add_argument("--latex", metavar="FILE", help="write the formulas as LaTeX")
+    parser.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",
+                        help="give a parameter a value, e.g. --set R=4.7kohm or "
+                        "--set 'R=2.2 kohm' (repeatable)")
     parser.add_argument("--samples", type=int, default=2001, metavar="N",
                         help="points per waveform in CSV and plots (default 2001)")
     parser.add_argument("--quiet", action="store_true", help="print only the verdicts")
@@ -98,7 +101,14 @@ def _run(args: argparse.Namespace) -> int:
     source = Path(args.netlist)
     outputs = [Path(p) for p in (args.json, args.csv, args.plot, args.latex) if p]
     api.check_outputs(source, outputs)
-    netlist = api.load(source)
+    values = {}
+    for setting in args.set:
+        name, equals, value = setting.partition("=")
+        if not equals or not name.strip():
+            raise NetlistError(f"--set {setting!r} is not NAME=VALUE",
+                               hint="e.g. --set R=4.7kohm")
+        values[name.strip()] = value.strip()
+    netlist = api.load(source, values)
     if args.check:
         from .report import network_summary
 

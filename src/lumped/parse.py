@@ -739,10 +739,11 @@ def _kind_word(token) -> str:
 
 
 class _ModelBuilder:
-    def __init__(self, source: str, text: str) -> None:
+    def __init__(self, source: str, text: str, overrides: dict | None = None) -> None:
         self.source = source
         self.text = text
         self.scope = _Scope(source)
+        self.overrides = overrides or {}
 
     def value(self, expr: Expr, unit: str, what: str, *, positive: bool = False) -> sympy.Expr:
         expected = dims_of(unit)
@@ -836,6 +837,19 @@ class _ModelBuilder:
                 )
             by_name[name] = statement
             graph.add_node(name)
+        declared: dict[str, RawStatement] = {}
+        for name, (expr, where, line) in self.overrides.items():
+            if name not in by_name:
+                known = ", ".join(sorted(by_name)) or "none"
+                raise NetlistError(
+                    f"'{name}' is not a parameter of this netlist", where,
+                    hint=f"the parameters are: {known}", line_text=line,
+                )
+            declared[name] = by_name[name]
+            by_name[name] = RawStatement(
+                "let_value", {"children": [by_name[name].fields["children"][0], expr]},
+                by_name[name].location,
+            )
         for name, statement in by_name.items():
             if statement.tag == "let_value":
                 for used in _names(statement.fields["children"][1]):
@@ -857,6 +871,8 @@ class _ModelBuilder:
             children = statement.fields["children"]
             if statement.tag == "let_value":
                 result = self.scope.evaluate(children[1])
+                if name in declared:
+                    self._check_override(name, declared[name], result)
                 parameter = m.Parameter(
                     name, sympy.Symbol(name, positive=True), result.value,
                     describe(result.dims) if result.dims else "", statement.location,
@@ -882,6 +898,21 @@ class _ModelBuilder:
         # Keep the order of the file for display.
         parameters.sort(key=lambda p: (p.location.line, p.location.column))
         return parameters
+
+    def _check_override(self, name: str, declared: RawStatement, result: SIValue) -> None:
+        """A value given on the command line must have the declared parameter's unit."""
+        children = declared.fields["children"]
+        if declared.tag == "let_free":
+            wanted = parse_unit(str(children[1]))[1] if len(children) > 1 else DIMENSIONLESS
+        else:
+            wanted = self.scope.evaluate(children[1]).dims
+        if result.dims != wanted:
+            _, where, line = self.overrides[name]
+            raise NetlistError(
+                f"the value given for '{name}' is in {describe(result.dims)}, but the netlist "
+                f"uses it as {describe(wanted)}", where,
+                hint=f"give '{name}' a value in {describe(wanted)}", line_text=line,
+            )
 
     def _placement(self, placement, name: str, kind: m.Kind, loc: Location) -> tuple[str, str]:
         reference = kind.domain.reference
@@ -1086,7 +1117,35 @@ def _show(value: sympy.Expr) -> str:
 # Entry points
 
 
-def parse_text(text: str | bytes, source: str = "<text>") -> m.Netlist:
+def _override_expressions(values: dict[str, str]) -> dict[str, tuple[Expr, Location, str]]:
+    """Parse ``NAME=VALUE`` settings given outside the netlist with the same grammar."""
+    parsed = {}
+    for name, value in values.items():
+        source = f"--set {name}"
+        line = f"let {name} = {value}"
+        where = Location(source, 1, len(line) - len(value) + 1, max(1, len(value)))
+        if "\n" in value or "#" in value:
+            raise NetlistError("a value must be one expression on one line", where,
+                               hint="e.g. --set R=4.7kohm or --set R='2 * 2.2 kohm'",
+                               line_text=line)
+        try:
+            tree = parser().parse(line + "\n")
+            statements = _Builder(source).transform(tree)
+        except UnexpectedInput as error:
+            raise _error_from_lark(error, line + "\n", source) from None
+        except VisitError as error:
+            raise NetlistError("cannot read this value", where, line_text=line) from error
+        except NetlistError as error:
+            raise error.with_text(line) from None
+        if len(statements) != 1 or statements[0].tag != "let_value":
+            raise NetlistError("cannot read this value", where,
+                               hint="write NAME=VALUE, e.g. R=4.7kohm", line_text=line)
+        parsed[name] = (statements[0].fields["children"][1], where, line)
+    return parsed
+
+
+def parse_text(text: str | bytes, source: str = "<text>",
+               values: dict[str, str] | None = None) -> m.Netlist:
     """Parse netlist text into a model (syntax, units and values checked).
 
     Parameters
@@ -1095,6 +1154,9 @@ def parse_text(text: str | bytes, source: str = "<text>") -> m.Netlist:
         The netlist.  Bytes are decoded as UTF-8 (a byte-order mark is skipped).
     source : str
         Name used in messages, usually the file name.
+    values : dict of str to str, optional
+        Values for parameters, written as in the netlist (``{"R": "4.7 kohm"}``);
+        they give free parameters a value or replace a ``let`` value.
 
     Returns
     -------
@@ -1123,7 +1185,8 @@ def parse_text(text: str | bytes, source: str = "<text>") -> m.Netlist:
         except VisitError as error:
             # lark wraps what goes wrong inside a transformer callback.
             raise error.orig_exc from None
-        return _ModelBuilder(source, prepared).build(statements)
+        overrides = _override_expressions(values) if values else None
+        return _ModelBuilder(source, prepared, overrides).build(statements)
     except NetlistError as error:
         raise error.with_text(prepared) from None
     except RecursionError:
@@ -1133,7 +1196,7 @@ def parse_text(text: str | bytes, source: str = "<text>") -> m.Netlist:
         ) from None
 
 
-def load_file(path: str | Path) -> m.Netlist:
+def load_file(path: str | Path, values: dict[str, str] | None = None) -> m.Netlist:
     """Read a netlist file and parse it.
 
     Examples
@@ -1154,4 +1217,4 @@ def load_file(path: str | Path) -> m.Netlist:
                            hint=f"name a {FILE_EXTENSION} file") from None
     except OSError as exc:
         raise NetlistError(f"cannot read {path}: {exc.strerror}", hint="check the path") from None
-    return parse_text(data, str(path))
+    return parse_text(data, str(path), values)
