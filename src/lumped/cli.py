@@ -52,6 +52,9 @@ def _arguments() -> argparse.ArgumentParser:
     parser.add_argument("--set", action="append", default=[], metavar="NAME=VALUE",
                         help="give a parameter a value, e.g. --set R=4.7kohm or "
                         "--set 'R=2.2 kohm' (repeatable)")
+    parser.add_argument("--transfer", action="append", default=[], metavar="SOURCE",
+                        help="also print the transfer function from SOURCE to each watched "
+                        "quantity: poles, zeros, DC gain, damping, stability (repeatable)")
     parser.add_argument("--samples", type=int, default=2001, metavar="N",
                         help="points per waveform in CSV and plots (default 2001)")
     parser.add_argument("--quiet", action="store_true", help="print only the verdicts")
@@ -115,7 +118,21 @@ def _run(args: argparse.Namespace) -> int:
         print(network_summary(netlist))
         return EXIT_PASS
     analysis = api.analyse(netlist)
-    return api.emit(analysis, args)
+    status = api.emit(analysis, args)
+    if args.transfer:
+        from .report import transfer_text
+
+        for name in args.transfer:
+            element = netlist.element(name)
+            if element is None or not element.kind.is_source:
+                sources = ", ".join(e.name for e in netlist.elements if e.kind.is_source)
+                raise NetlistError(f"--transfer {name}: there is no source of that name",
+                                   hint=f"the sources are: {sources or 'none'}")
+        for name in args.transfer:
+            for result in analysis.results:
+                print()
+                print(transfer_text(analysis.solution.transfer_function(name, result.quantity)))
+    return status
 
 
 if __name__ == "__main__":  # pragma: no cover

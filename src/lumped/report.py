@@ -455,3 +455,50 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
     else:
         out.append("no requirements stated")
     return "\n".join(line.rstrip() for line in out)
+
+
+def _complex_text(value) -> str:
+    number = complex(sympy.N(value))
+    if abs(number.imag) < 1e-12 * max(1.0, abs(number.real)):
+        return f"{number.real:.4g}"
+    sign = "+" if number.imag >= 0 else "-"
+    return f"{number.real:.4g} {sign} j{abs(number.imag):.4g}"
+
+
+def transfer_text(tf) -> str:
+    """A transfer function as text: H(s), poles, zeros, DC gain, 2nd-order factors, stability.
+
+    Examples
+    --------
+    >>> from lumped.api import loads
+    >>> from lumped.equations import assemble
+    >>> net = loads("voltage source V at a step 1 V\\nresistor R from a to b 1 kohm\\n"
+    ...             "capacitor C from b to ground 1 uF\\nwatch voltage at b\\n")
+    >>> text = transfer_text(assemble(net).transfer_function("V", net.watches[0]))
+    >>> "stable" in text
+    True
+    """
+    lines = [f"── from {tf.source} to {tf.quantity.label} " + "─" * max(
+        3, _WIDTH - 12 - len(tf.source) - len(tf.quantity.label))]
+    lines.extend(_wrap("  H(s) = ", short_formula(tf.expr)))
+    lines.extend(_wrap("  poles  ", ", ".join(_complex_text(p) for p in tf.poles) or "none"))
+    lines.extend(_wrap("  zeros  ", ", ".join(_complex_text(z) for z in tf.zeros) or "none"))
+    if tf.dc_gain is not None:
+        lines.extend(_wrap("  DC gain  ", short_formula(tf.dc_gain)))
+    else:
+        lines.extend(_wrap("  DC gain  ", tf.dc_gain_note or "none"))
+    for factor in tf.second_order_factors:
+        wn, zeta, q = factor.natural_frequency, factor.damping_ratio, factor.quality_factor
+        if wn.free_symbols or zeta.free_symbols:
+            text = (f"wn = {short_formula(wn)} rad/s, zeta = {short_formula(zeta)}, "
+                    f"Q = {short_formula(q)}")
+        else:
+            q_text = "infinite" if q == sympy.oo else f"{float(q):.3g}"
+            text = (f"fn {engineering(float(wn) / (2 * math.pi), 'Hz')}, damping ratio "
+                    f"{float(zeta):.3g}, Q {q_text}")
+        lines.extend(_wrap("  pair   ", text))
+    verdict = tf.stability
+    if tf.offending_poles:
+        verdict += " (poles at " + ", ".join(_complex_text(p) for p in tf.offending_poles) + ")"
+    lines.extend(_wrap("  stability  ", verdict))
+    return "\n".join(lines)
