@@ -22,19 +22,7 @@ POS = {"positive": True}
 # --------------------------------------------------------------------------- helpers
 
 
-def el(
-    name: str,
-    word: str,
-    a: str,
-    b: str,
-    value: sympy.Expr | int | None = None,
-    initial: sympy.Expr | int | None = None,
-    wave: m.Waveform | None = None,
-) -> m.Element:
-    def ex(x: sympy.Expr | int | None) -> sympy.Expr | None:
-        return sympy.Integer(x) if isinstance(x, int) else x
-
-    return m.Element(name, m.Kind.from_word(word), a, b, ex(value), wave, ex(initial))
+el = m.make_element  # exact elements from plain ints
 
 
 def _ex(x: sympy.Expr | int) -> sympy.Expr:
@@ -69,7 +57,7 @@ def test_rc_low_pass_step_numeric() -> None:
     r, c = Q(1000), Q(1, 10**6)
     sol = assemble(
         net(
-            el("V1", "voltage source", "in", "ground", wave=step(5)),
+            el("V1", "voltage source", "in", "ground", waveform=step(5)),
             el("R1", "resistor", "in", "out", r),
             el("C1", "capacitor", "out", "ground", c),
         )
@@ -104,7 +92,7 @@ def test_all_symbolic_rc_transform_is_a_plain_ratio() -> None:
     r, c, v = sympy.symbols("R C V", positive=True)
     sol = assemble(
         net(
-            el("V1", "voltage source", "in", "ground", wave=step(v)),
+            el("V1", "voltage source", "in", "ground", waveform=step(v)),
             el("R1", "resistor", "in", "out", r),
             el("C1", "capacitor", "out", "ground", c),
         )
@@ -120,7 +108,7 @@ def test_resistive_divider() -> None:
     # Voltage divider (common practice): V R2/(R1 + R2).
     sol = assemble(
         net(
-            el("V1", "voltage source", "a", "ground", wave=step(12)),
+            el("V1", "voltage source", "a", "ground", waveform=step(12)),
             el("R1", "resistor", "a", "b", 3000),
             el("R2", "resistor", "b", "ground", 1000),
         )
@@ -135,7 +123,7 @@ def test_series_rlc_current() -> None:
     r, ind, c = Q(10), Q(1, 1000), Q(1, 10**5)
     sol = assemble(
         net(
-            el("V1", "voltage source", "a", "ground", wave=step(1)),
+            el("V1", "voltage source", "a", "ground", waveform=step(1)),
             el("R1", "resistor", "a", "b", r),
             el("L1", "inductor", "b", "c", ind),
             el("C1", "capacitor", "c", "ground", c),
@@ -154,7 +142,7 @@ def test_parallel_rc_driven_by_current() -> None:
     r, c = Q(50), Q(1, 100)
     sol = assemble(
         net(
-            el("I1", "current source", "ground", "n", wave=step(2)),
+            el("I1", "current source", "ground", "n", waveform=step(2)),
             el("R1", "resistor", "n", "ground", r),
             el("C1", "capacitor", "n", "ground", c),
         )
@@ -168,7 +156,7 @@ def test_transformer_reflects_load_by_ratio_squared() -> None:
     n, rl = Q(3), Q(8)
     sol = assemble(
         net(
-            el("I1", "current source", "ground", "p", wave=step(1)),
+            el("I1", "current source", "ground", "p", waveform=step(1)),
             el("RL", "resistor", "q", "ground", rl),
             couplings=(
                 m.Coupling(
@@ -190,7 +178,7 @@ def test_initial_conditions_and_contributions() -> None:
     r, c = Q(2), Q(1, 4)
     sol = assemble(
         net(
-            el("V1", "voltage source", "in", "ground", wave=step(3)),
+            el("V1", "voltage source", "in", "ground", waveform=step(3)),
             el("R1", "resistor", "in", "out", r),
             el("C1", "capacitor", "out", "ground", c, initial=7),
         )
@@ -225,7 +213,7 @@ def test_inductor_initial_current_decays() -> None:
 def test_delayed_source_gives_shifted_terms() -> None:
     sol = assemble(
         net(
-            el("V1", "voltage source", "in", "ground", wave=step(2, 3)),
+            el("V1", "voltage source", "in", "ground", waveform=step(2, 3)),
             el("R1", "resistor", "in", "out", 1),
             el("C1", "capacitor", "out", "ground", 1),
         )
@@ -244,7 +232,7 @@ def test_sine_source_weights_and_pi() -> None:
     )
     sol = assemble(
         net(
-            el("V1", "voltage source", "in", "ground", wave=wave),
+            el("V1", "voltage source", "in", "ground", waveform=wave),
             el("R1", "resistor", "in", "out", 1),
             el("C1", "capacitor", "out", "ground", 1),
         )
@@ -267,7 +255,7 @@ def test_fast_and_symbolic_solvers_agree() -> None:
 
     def ladder(rv: sympy.Expr, lv: sympy.Expr, cv: sympy.Expr) -> m.Netlist:
         return net(
-            el("V1", "voltage source", "n0", "ground", wave=step(1)),
+            el("V1", "voltage source", "n0", "ground", waveform=step(1)),
             el("Ra", "resistor", "n0", "a", rv),
             el("La", "inductor", "a", "b", lv, initial=Q(1, 3)),
             el("Ca", "capacitor", "b", "ground", cv, initial=2),
@@ -394,7 +382,7 @@ def test_mass_initial_velocity_displacement_and_acceleration() -> None:
 def test_acceleration_under_force_step() -> None:
     # Newton's second law: a = F/m for a force step on a free mass: A(s) = F/(m s).
     sol = assemble(
-        net(el("F1", "force source", "frame", "b", wave=step(6)), el("M", "mass", "b", "frame", 2))
+        net(el("F1", "force source", "frame", "b", waveform=step(6)), el("M", "mass", "b", "frame", 2))
     )
     assert same(sol.response(qty("acceleration", "b")).transform, 3 / s)
     assert sol.response(qty("acceleration", "b")).unit == "m/s^2"
@@ -404,7 +392,7 @@ def test_spring_force_includes_preload() -> None:
     # Spring between a held point and the frame: its force stays at the preload.
     sol = assemble(
         net(
-            el("Vs", "velocity source", "a", "frame", wave=step(0)),
+            el("Vs", "velocity source", "a", "frame", waveform=step(0)),
             el("K", "spring", "a", "frame", 100, initial=-20),
         )
     )
@@ -437,7 +425,7 @@ def test_equilibrium_with_free_parameters() -> None:
             el("M", "mass", "body", "frame", mass),
             el("K", "spring", "body", "frame", k),
             el("D", "damper", "body", "frame", c),
-            el("F1", "force source", "frame", "body", wave=step(1)),
+            el("F1", "force source", "frame", "body", waveform=step(1)),
             gravity=m.Gravity(g, m.GravityStart.EQUILIBRIUM),
         )
     )
@@ -464,7 +452,7 @@ def test_gear_reflects_inertia() -> None:
     n, inertia = Q(4), Q(3, 2)
     sol = assemble(
         net(
-            el("T1", "torque source", "frame", "in", wave=step(2)),
+            el("T1", "torque source", "frame", "in", waveform=step(2)),
             el("J", "inertia", "out", "frame", inertia),
             couplings=(
                 m.Coupling(
@@ -483,7 +471,7 @@ def test_motor_driving_inertia_from_voltage_step() -> None:
     r, kt, inertia, v = sympy.symbols("R k J V", positive=True)
     sol = assemble(
         net(
-            el("V1", "voltage source", "a", "ground", wave=step(v)),
+            el("V1", "voltage source", "a", "ground", waveform=step(v)),
             el("Rw", "resistor", "a", "b", r),
             el("J", "inertia", "shaft", "frame", inertia),
             couplings=(
@@ -532,7 +520,7 @@ def test_node_fed_only_by_current_source_is_an_error() -> None:
     with pytest.raises(SolveError, match="I1"):
         assemble(
             net(
-                el("I1", "current source", "ground", "x", wave=step(1)),
+                el("I1", "current source", "ground", "x", waveform=step(1)),
                 el("R1", "resistor", "y", "ground", 1),
             )
         )
@@ -542,10 +530,10 @@ def test_current_source_into_floating_pair() -> None:
     with pytest.raises(SolveError, match=r"I1") as info:
         assemble(
             net(
-                el("I1", "current source", "ground", "x", wave=step(1)),
+                el("I1", "current source", "ground", "x", waveform=step(1)),
                 el("C1", "capacitor", "x", "y", 1),
                 el("R1", "resistor", "z", "ground", 1),
-                el("I2", "current source", "y", "z", wave=step(1)),
+                el("I2", "current source", "y", "z", waveform=step(1)),
             )
         )
     assert "x" in str(info.value) and "y" in str(info.value)
@@ -555,8 +543,8 @@ def test_loop_of_voltage_sources_is_an_error() -> None:
     with pytest.raises(SolveError, match=r"V1.*V2|V2.*V1"):
         assemble(
             net(
-                el("V1", "voltage source", "a", "ground", wave=step(1)),
-                el("V2", "voltage source", "a", "ground", wave=step(2)),
+                el("V1", "voltage source", "a", "ground", waveform=step(1)),
+                el("V2", "voltage source", "a", "ground", waveform=step(2)),
                 el("R1", "resistor", "a", "ground", 1),
             )
         )
@@ -568,7 +556,7 @@ def test_generic_singularity_names_elements() -> None:
     with pytest.raises(SolveError, match="T1"):
         assemble(
             net(
-                el("I1", "current source", "ground", "p", wave=step(1)),
+                el("I1", "current source", "ground", "p", waveform=step(1)),
                 el("R1", "resistor", "x", "ground", 1),
                 couplings=(
                     m.Coupling(
@@ -647,7 +635,7 @@ def test_kcl_holds_at_every_node(r: list[int], c: list[int], v0: int, point: int
     # Kirchhoff's current law, checked independently of the assembly: at a sample
     # point s0, the element currents computed from the node voltages sum to zero.
     parts = (
-        el("I1", "current source", "ground", "a", wave=step(3)),
+        el("I1", "current source", "ground", "a", waveform=step(3)),
         el("R1", "resistor", "a", "b", r[0]),
         el("R2", "resistor", "b", "ground", r[1]),
         el("R3", "resistor", "a", "c", r[2]),

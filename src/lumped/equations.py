@@ -390,6 +390,25 @@ def _plan(netlist: Netlist) -> _Plan:
                     f"the drop of {mass.name} sets its initial velocity; the written one is unused"
                 )
 
+    def add_store_inputs(element: Element, column: dict, word: str) -> None:
+        """The companion source of a store's initial value (or its drop velocity), and the
+        column the equilibrium start fills in later."""
+        name = element.name
+        if name in drop_velocity:
+            label, origin, start = f"drop of {name}", "drop", drop_velocity[name]
+        elif element.initial is not None and element.initial != 0:
+            label, origin, start = f"initial {word} of {name}", "initial", element.initial
+        else:
+            start = None
+        if start is not None:
+            store_inputs[name] = b.add_input(
+                label, name, origin, column, [Piece(start, sympy.Integer(1), 0)]
+            )
+        if equilibrium:
+            equilibrium_inputs[name] = b.add_input(
+                f"equilibrium {word} of {name}", name, "initial", column, ()
+            )
+
     for element in netlist.elements:
         a, c = b.node(element.positive), b.node(element.negative)
         role = element.kind.role
@@ -399,27 +418,7 @@ def _plan(netlist: Netlist) -> _Plan:
             admittance[name] = (sympy.Integer(0), value)
             b.admittance(a, c, 0, value)
             column = {a: value, c: -value}
-            word = _ACROSS_WORD[element.domain]
-            if name in drop_velocity:
-                store_inputs[name] = b.add_input(
-                    f"drop of {name}",
-                    name,
-                    "drop",
-                    column,
-                    [Piece(drop_velocity[name], sympy.Integer(1), 0)],
-                )
-            elif element.initial is not None and element.initial != 0:
-                store_inputs[name] = b.add_input(
-                    f"initial {word} of {name}",
-                    name,
-                    "initial",
-                    column,
-                    [Piece(element.initial, sympy.Integer(1), 0)],
-                )
-            if equilibrium:
-                equilibrium_inputs[name] = b.add_input(
-                    f"equilibrium {word} of {name}", name, "initial", column, ()
-                )
+            add_store_inputs(element, column, _ACROSS_WORD[element.domain])
         elif role is Role.THROUGH_STORE:
             value = _value(element)
             k = b.branch(("branch", name), a, c)
@@ -432,19 +431,7 @@ def _plan(netlist: Netlist) -> _Plan:
                 b.across_row(k, a, c, value)
                 b.add(k, k, 0, -1)
                 column = {k: sympy.Integer(-1)}
-            word = _THROUGH_WORD[element.domain]
-            if element.initial is not None and element.initial != 0:
-                store_inputs[name] = b.add_input(
-                    f"initial {word} of {name}",
-                    name,
-                    "initial",
-                    column,
-                    [Piece(element.initial, sympy.Integer(1), 0)],
-                )
-            if equilibrium:
-                equilibrium_inputs[name] = b.add_input(
-                    f"equilibrium {word} of {name}", name, "initial", column, ()
-                )
+            add_store_inputs(element, column, _THROUGH_WORD[element.domain])
         elif role is Role.DISSIPATOR:
             value = _value(element)
             if element.kind is Kind.RESISTOR and (not _is_number(value) or value == 0):

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from enum import Enum
+from fractions import Fraction
 
 import sympy
 
@@ -224,6 +225,34 @@ class Element:
     @property
     def domain(self) -> Domain:
         return self.kind.domain
+
+
+def _exact(value):
+    if isinstance(value, int):
+        return sympy.Integer(value)
+    if isinstance(value, Fraction):
+        return sympy.Rational(value.numerator, value.denominator)
+    return value
+
+
+def make_element(
+    name: str,
+    kind: str,
+    positive: str,
+    negative: str,
+    value=None,
+    initial=None,
+    waveform: Waveform | None = None,
+) -> Element:
+    """Build an element in Python, without a netlist (ints and Fractions become exact).
+
+    Examples
+    --------
+    >>> make_element("C1", "capacitor", "a", "ground", Fraction(1, 10**6), initial=5).initial
+    5
+    """
+    return Element(name, Kind.from_word(kind), positive, negative, _exact(value), waveform,
+                   _exact(initial))
 
 
 @dataclass(frozen=True)

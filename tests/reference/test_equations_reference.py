@@ -25,19 +25,7 @@ Q = sympy.Rational
 t = sympy.Symbol("t", positive=True)
 
 
-def el(
-    name: str,
-    word: str,
-    a: str,
-    b: str,
-    value: sympy.Expr | int | None = None,
-    initial: sympy.Expr | int | None = None,
-    wave: m.Waveform | None = None,
-) -> m.Element:
-    def ex(x: sympy.Expr | int | None) -> sympy.Expr | None:
-        return sympy.Integer(x) if isinstance(x, int) else x
-
-    return m.Element(name, m.Kind.from_word(word), a, b, ex(value), wave, ex(initial))
+el = m.make_element  # exact elements from plain ints
 
 
 def step(amplitude: int) -> m.Waveform:
@@ -70,7 +58,7 @@ def test_series_rlc_with_initial_conditions_against_dsolve() -> None:
             "rlc",
             "",
             elements=(
-                el("V1", "voltage source", "a", "ground", wave=step(v)),
+                el("V1", "voltage source", "a", "ground", waveform=step(v)),
                 el("R1", "resistor", "a", "b", r),
                 el("L1", "inductor", "b", "c", ind, initial=2),
                 el("C1", "capacitor", "c", "ground", c, initial=3),
@@ -98,7 +86,7 @@ def test_mass_spring_damper_with_preload_against_dsolve() -> None:
             "msd",
             "",
             elements=(
-                el("F1", "force source", "frame", "body", wave=step(2)),
+                el("F1", "force source", "frame", "body", waveform=step(2)),
                 el("M", "mass", "body", "frame", mass, initial=1),
                 el("K", "spring", "body", "frame", k, initial=-6),
                 el("D", "damper", "body", "frame", c),
@@ -259,7 +247,7 @@ def test_rc_step_reaches_63_percent_after_one_time_constant() -> None:
             "rc",
             "",
             elements=(
-                el("V1", "voltage source", "in", "ground", wave=step(1)),
+                el("V1", "voltage source", "in", "ground", waveform=step(1)),
                 el("R1", "resistor", "in", "out", r),
                 el("C1", "capacitor", "out", "ground", c),
             ),
