@@ -382,7 +382,10 @@ def test_mass_initial_velocity_displacement_and_acceleration() -> None:
 def test_acceleration_under_force_step() -> None:
     # Newton's second law: a = F/m for a force step on a free mass: A(s) = F/(m s).
     sol = assemble(
-        net(el("F1", "force source", "frame", "b", waveform=step(6)), el("M", "mass", "b", "frame", 2))
+        net(
+            el("F1", "force source", "frame", "b", waveform=step(6)),
+            el("M", "mass", "b", "frame", 2),
+        )
     )
     assert same(sol.response(qty("acceleration", "b")).transform, 3 / s)
     assert sol.response(qty("acceleration", "b")).unit == "m/s^2"

@@ -937,6 +937,7 @@ class Solution:
         form = self._form(quantity)
         contributions: list[Contribution] = []
         by_delay: dict[sympy.Expr, tuple[sympy.Poly, sympy.Poly]] = {}
+        weighted: list[tuple[sympy.Poly, sympy.Poly, sympy.Expr, sympy.Expr]] = []
         for j, inp in enumerate(self._b.inputs):
             if not inp.pieces:
                 continue
@@ -965,12 +966,16 @@ class Solution:
                     if num.is_zero:
                         continue
                     parts.append((num, den, delay))
+                    if weight != 1:
+                        # Irrational weights (a drop's sqrt(2 g h)) stay outside the
+                        # polynomials: cancelling over such coefficients is very slow.
+                        weighted.append((num, den, delay, weight))
+                        continue
                     acc = by_delay.get(delay)
-                    wnum = num * weight if weight != 1 else num
                     if acc is None:
-                        by_delay[delay] = (wnum, den)
+                        by_delay[delay] = (num, den)
                     else:
-                        by_delay[delay] = (acc[0] * den + wnum * acc[1], acc[1] * den)
+                        by_delay[delay] = (acc[0] * den + num * acc[1], acc[1] * den)
                 if not parts:
                     continue
                 terms = tuple(
@@ -992,6 +997,10 @@ class Solution:
                     total_list.append(
                         (_rf_expr(num, den), sympy.Integer(delay) if delay == 0 else delay)
                     )
+            for num, den, delay, weight in weighted:
+                total_list.append(
+                    (weight * _rf_expr(num, den), sympy.Integer(delay) if delay == 0 else delay)
+                )
             total = tuple(total_list)
             transform = sympy.Add(*(r_ * _delay_factor(t_) for r_, t_ in total))
         zero_state = sympy.Add(

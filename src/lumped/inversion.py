@@ -24,6 +24,7 @@ The default time symbol is ``sympy.Symbol("t", real=True)``.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
@@ -276,7 +277,6 @@ class TimeResponse:
         Significant digits of numeric results.
     """
 
-    expression: sympy.Expr
     modes: tuple[Mode, ...]
     impulses: tuple[Impulse, ...]
     parameters: frozenset
@@ -286,6 +286,11 @@ class TimeResponse:
     digits: int = 30
     _groups: tuple[_Group, ...] = field(default=(), repr=False, compare=False)
     _numeric: tuple[_NumericGroup, ...] | None = field(default=None, repr=False, compare=False)
+
+    @functools.cached_property
+    def expression(self) -> sympy.Expr:
+        """The closed form, built on first use: numbers alone never need it."""
+        return sympy.Add(*[_render_group(g, self.t, False) for g in self._groups])
 
     def amplitude_phase(self) -> sympy.Expr:
         """Closed form with each damped sinusoid as ``M e^{sigma t} cos(w t + phi)``.
@@ -527,6 +532,7 @@ def _direct_sum(tau: np.ndarray, poles: np.ndarray, matrix: np.ndarray) -> np.nd
 
 
 def _exact_number(value: Any) -> sympy.Expr:
+    # Only Python numbers reach sympify here (guarded by the isinstance), never text.
     expr = sympy.sympify(value) if isinstance(value, (int, float, complex)) else value
     if isinstance(expr, sympy.Basic) and expr.atoms(sympy.Float):
         expr = sympy.nsimplify(expr, rational=True)
@@ -759,7 +765,7 @@ def _numeric_group(
     impulses = _impulses_from_quotient([_q_to_sympy(c) for c in quotient.coeffs()], delay)
     delay_float = float(delay) if delay.is_number else math.nan
 
-    _, factors = den.factor()
+    factors = _factor_cached(tuple(den.coeffs()))
     modes: list[Mode] = []
     pieces: list[_Piece] = []
     numeric_factors = []
@@ -866,6 +872,29 @@ def _exact_modes(
         )
 
 
+@functools.lru_cache(maxsize=64)
+def _certified_roots(coefficients: tuple[int, ...], bits: int) -> tuple:
+    """Root balls of an integer polynomial, kept for the other responses of a network.
+
+    Every quantity of one network shares its characteristic polynomial, so
+    the roots are isolated once and reused (the cache is keyed on the exact
+    coefficients and the working precision).
+    """
+    saved = ctx.prec
+    try:
+        ctx.prec = bits
+        return tuple(r for r, _ in fmpz_poly(list(coefficients)).complex_roots())
+    finally:
+        ctx.prec = saved
+
+
+@functools.lru_cache(maxsize=64)
+def _factor_cached(coefficients: tuple) -> tuple:
+    """Irreducible factors of a rational polynomial, kept for the network's other responses."""
+    _, factors = fmpq_poly(list(coefficients)).factor()
+    return tuple(factors)
+
+
 def _ball_modes(
     num: fmpq_poly,
     den: fmpq_poly,
@@ -900,8 +929,9 @@ def _ball_modes(
             results = []
             accurate = True
             for factor, mult in factors:
-                int_factor = fmpz_poly([int(c * factor.denom()) for c in factor.coeffs()])
-                roots = [r for r, _ in int_factor.complex_roots()]
+                roots = _certified_roots(
+                    tuple(int(c * factor.denom()) for c in factor.coeffs()), bits
+                )
                 real = [r for r in roots if r.imag.is_zero()]
                 upper = [r for r in roots if r.imag > 0]
                 if len(real) + 2 * len(upper) != factor.degree():
@@ -1145,9 +1175,7 @@ def invert(
             else:
                 numerics = None
 
-    expression = sympy.Add(*[_render_group(g, t, False) for g in groups])
     return TimeResponse(
-        expression=expression,
         modes=tuple(m for g in groups for m in g.modes),
         impulses=tuple(i for g in groups for i in g.impulses),
         parameters=parameters,

@@ -210,6 +210,65 @@ def _terms(expr: sympy.Expr) -> tuple[str, int]:
     return short_formula(shown) + " + ...", len(terms) - _MAX_TERMS
 
 
+_MAX_SHOWN_DEGREE = 6
+
+
+def _transform_text(response) -> str:
+    """X(s) for reading; a large network's ratio is summarised by its degrees."""
+    parts = []
+    for ratio, delay in response.terms:
+        numerator, denominator = sympy.fraction(ratio)
+        symbols = sorted(ratio.free_symbols, key=str)
+        s = next((x for x in symbols if x.name == "s"), None)
+        degree = sympy.Poly(denominator, s).degree() if s is not None else 0
+        if degree > _MAX_SHOWN_DEGREE:
+            text = (f"N(s)/D(s) with D of degree {degree}, N of degree "
+                    f"{sympy.Poly(numerator, s).degree()}")
+        else:
+            text = short_formula(ratio)
+        if delay != 0:
+            text = f"({text})*exp(-{short_formula(delay)}*s)"
+        parts.append(text)
+    return " + ".join(parts) if parts else "0"
+
+
+def _number(value: float) -> str:
+    return _ShortFloats().doprint(sympy.Float(value))
+
+
+def _modes_text(time) -> tuple[str, int]:
+    """x(t) for reading, straight from the modes (fast for large networks)."""
+    terms = []
+    for mode in time.modes:
+        delay = float(mode.delay)
+        tau = "t" if delay == 0 else f"(t - {_number(delay)})"
+        for k, c in enumerate(mode.coefficients):
+            power = "" if k == 0 else (f"*{tau}" if k == 1 else f"*{tau}**{k}/{math.factorial(k)}")
+            pole = mode.pole
+            if mode.is_pair:
+                a, b = 2 * c.real, -2 * c.imag
+                w = _number(pole.imag)
+                body = f"({_number(a)}*cos({w}*{tau}) + {_number(b)}*sin({w}*{tau}))"
+                body = body.replace("+ -", "- ")
+                if pole.real != 0:
+                    body += f"*exp({_number(pole.real)}*{tau})"
+            else:
+                body = _number(c.real)
+                if pole.real != 0:
+                    body += f"*exp({_number(pole.real)}*{tau})"
+            text = body + power
+            if delay != 0:
+                text += f"*u(t - {_number(delay)})"
+            terms.append(text)
+    for impulse in time.impulses:
+        name = "δ" if impulse.order == 0 else "δ" + "'" * impulse.order
+        at = "t" if impulse.delay == 0 else f"t - {_number(float(impulse.delay))}"
+        terms.append(f"{_number(float(impulse.weight))}*{name}({at})")
+    shown = terms[:_MAX_TERMS]
+    text = " + ".join(shown).replace("+ -", "- ") if shown else "0"
+    return text, len(terms) - len(shown)
+
+
 def _cases(expr: sympy.Expr) -> list[tuple[sympy.Expr, sympy.Expr]]:
     """Split ``rest + Piecewise(...)`` into one closed form per case, with its condition."""
     terms = sympy.Add.make_args(expr)
@@ -259,10 +318,14 @@ def _figure_rows(result) -> list[tuple[str, str]]:
             if figs.peak_g is not None and figs.minimum_g is not None else None)
     if figs.max_travel is not None:
         add("maximum travel", engineering(figs.max_travel, unit))
-    add("overshoot", f"{figs.overshoot * 100:.3g} %" if figs.overshoot is not None else None,
-        "overshoot")
-    add("undershoot", f"{figs.undershoot * 100:.3g} %" if figs.undershoot is not None else None,
-        "undershoot")
+    def percent(fraction: float | None) -> str | None:
+        if fraction is None:
+            return None
+        # Excursions below a part per billion of the change are rounding, not overshoot.
+        return f"{fraction * 100:.3g} %" if abs(fraction) >= 1e-9 else "0 %"
+
+    add("overshoot", percent(figs.overshoot), "overshoot")
+    add("undershoot", percent(figs.undershoot), "undershoot")
     add("rise time 10-90 %", engineering(figs.rise_time, "s") if figs.rise_time is not None
         else None, "rise_time")
     add(f"settling ±{figs.band * 100:g} %", engineering(figs.settling_time, "s")
@@ -387,13 +450,16 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
             out.append("")
             unit = _PRETTY_UNIT.get(result.unit, result.unit)
             out.append(_rule(f"{result.quantity.label} [{unit}]", colour))
-            text, more = _terms(result.response.transform)
-            out.extend(_wrap("  X(s) = ", text + (f"  (+{more} more terms)" if more else "")))
+            out.extend(_wrap("  X(s) = ", _transform_text(result.response)))
             if result.time is None:
                 out.extend(_wrap("  x(t): ", result.problem or "not available"))
                 continue
-            cases = _cases(result.time.expression)
-            if cases:
+            cases = _cases(result.time.expression) if result.time.parameters else []
+            if not result.time.parameters:
+                text, more = _modes_text(result.time)
+                out.extend(_wrap("  x(t) = ", text + (f"  (+{more} more terms; the full form "
+                                                      "is in --json / --latex)" if more else "")))
+            elif cases:
                 for branch, condition in cases:
                     out.extend(_wrap("  x(t) = ", short_formula(branch)))
                     if isinstance(condition, sympy.Equality):
