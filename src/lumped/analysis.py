@@ -21,7 +21,7 @@ True
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import sympy
 
@@ -98,7 +98,6 @@ class Analysis:
     stored_energy: float | None = None  # joules at t = 0
     drops: tuple[DropResult, ...] = ()
     window_chosen: bool = False
-    extra: dict = field(default_factory=dict)
 
     @property
     def passed(self) -> bool:
@@ -173,7 +172,7 @@ def _quantities(netlist: m.Netlist) -> list[m.Quantity]:
     return list(seen.values())
 
 
-def analyse(netlist: m.Netlist, *, samples_hint: int = 0) -> Analysis:
+def analyse(netlist: m.Netlist) -> Analysis:
     """Solve a validated netlist and measure every watched or required quantity.
 
     Parameters

@@ -21,12 +21,13 @@ Solve a lumped electrical or mechanical network exactly: read a netlist
 them in closed form, and report the figures of every watched quantity with a
 pass/fail verdict for each requirement.
 
-exit status: 0 all requirements pass, 1 a requirement fails, 2 bad input."""
+exit status: 0 all requirements pass, 1 a requirement fails (or cannot be
+judged), 2 bad input (nothing is written), 3 an internal error."""
 
 _EPILOG = """\
 examples:
   lumped examples/switch_node_snubber.lumped
-  lumped examples/crate_drop.lumped --plot crate.png --json crate.json
+  lumped examples/crate_drop_foam.lumped --plot crate.png --json crate.json
   lumped --check my_filter.lumped
   lumped --syntax            # print the netlist language reference
 
@@ -76,6 +77,11 @@ def main(argv: list[str] | None = None) -> int:
     except LumpedError as error:
         print(f"{args.netlist}: {error}", file=sys.stderr)
         return EXIT_BAD_INPUT
+    except BrokenPipeError:
+        # The reader (e.g. `head`) left early: not an error of ours or of the netlist.
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return EXIT_FAIL
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
@@ -103,6 +109,12 @@ def _run(args: argparse.Namespace) -> int:
 
     source = Path(args.netlist)
     outputs = [Path(p) for p in (args.json, args.csv, args.plot, args.latex) if p]
+    if args.plot and Path(args.plot).suffix.lower() not in (".png", ".svg"):
+        raise NetlistError(f"--plot {args.plot}: the plot is written as .png or .svg",
+                           hint="name the file with one of those endings")
+    if not 2 <= args.samples <= 10_000_000:
+        raise NetlistError(f"--samples {args.samples}: give between 2 and 10000000 points",
+                           hint="2001 (the default) is plenty for a plot")
     api.check_outputs(source, outputs)
     values = {}
     for setting in args.set:

@@ -1501,10 +1501,12 @@ def _initial_notes(netlist: Netlist, plan: _Plan, extra: dict[str, sympy.Expr]) 
             a, b = _graph_nodes(e.positive), _graph_nodes(e.negative)
             if sympy.simplify(potential[a] - potential[b] - data["value"]) != 0:
                 loop = {data["name"]} | (_tree_path(parent, a) ^ _tree_path(parent, b))
+                domain = e.domain
                 notes.append(
-                    "the initial across values of "
+                    f"the initial {_ACROSS_WORD[domain]}s of "
                     + ", ".join(sorted(loop))
-                    + " break KVL around their loop: expect an impulse of through at t = 0"
+                    + " do not add up around their loop (KVL): the stores share them at once, "
+                    f"with an impulse of {_THROUGH_WORD[domain]} at t = 0"
                 )
 
     # KCL: super-nodes joined by everything but through stores and through sources.
@@ -1539,12 +1541,13 @@ def _initial_notes(netlist: Netlist, plan: _Plan, extra: dict[str, sympy.Expr]) 
             crossing.append(e.name)
             total += value if a_in else -value
         if crossing and not unknown and sympy.simplify(total) != 0:
+            domain = netlist.element(crossing[0]).domain
             notes.append(
-                "the initial through values of "
+                f"the initial {_THROUGH_WORD[domain]}s of "
                 + ", ".join(sorted(crossing))
-                + " break KCL at "
+                + " do not balance (KCL) at "
                 + ", ".join(sorted(component))
-                + ": expect an impulse of across at t = 0"
+                + f": expect an impulse of {_ACROSS_WORD[domain]} at t = 0"
             )
     return notes
 
