@@ -230,7 +230,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
     dissipation = _dissipation(netlist, solution, start, stop)
     stored = _stored_energy(netlist)
     drops = _drop_figures(netlist, solution, start, stop)
-    cautions = _cautions(netlist, results, verdicts, drops)
+    cautions = _cautions(netlist, solution, results, verdicts, drops, start, stop)
     return Analysis(
         netlist=netlist,
         solution=solution,
@@ -307,7 +307,44 @@ def _stored_energy(netlist: m.Netlist, domains=None) -> float | None:
     return float(total)
 
 
-def _cautions(netlist, results, verdicts, drops) -> list[str]:
+_MAX_CHECKED_NODES = 12
+
+
+def _highest_node_voltage(netlist, solution, results, start: float, stop: float) -> float:
+    """The largest voltage magnitude over the window at any electrical node.
+
+    Watched voltages are already at hand; the other nodes are checked too on
+    networks small enough for it to stay quick, since a hazard at a node nobody
+    watches is still a hazard.
+    """
+    highest = 0.0
+    watched = set()
+    for result in results:
+        if result.quantity.kind is m.QuantityKind.VOLTAGE and result.figures is not None \
+                and result.figures.magnitude is not None:
+            highest = max(highest, abs(result.figures.magnitude.value))
+            if result.quantity.preposition in ("at", "of"):
+                watched.add(result.quantity.target)
+    nodes = [n for n in dict.fromkeys(netlist.nodes)
+             if n not in m.REFERENCE_NODES and solution.node_domain(n) is m.Domain.ELECTRICAL]
+    if len(nodes) > _MAX_CHECKED_NODES:
+        return highest
+    for node in nodes:
+        if node in watched:
+            continue
+        try:
+            time = _invert(solution.response(m.Quantity(m.QuantityKind.VOLTAGE, node, "at")))
+        except ParametersNeeded:
+            continue
+        if time.parameters:
+            continue
+        figures = compute_figures(time, start, stop)
+        if figures.magnitude is not None:
+            highest = max(highest, abs(figures.magnitude.value))
+    return highest
+
+
+def _cautions(netlist, solution, results, verdicts, drops, start, stop) -> list[str]:
     cautions = []
     highest = 0.0
     for element in netlist.elements:
@@ -318,10 +355,7 @@ def _cautions(netlist, results, verdicts, drops) -> list[str]:
         if element.kind is m.Kind.CAPACITOR and element.initial is not None \
                 and element.initial.is_number:
             highest = max(highest, abs(float(element.initial)))
-    for result in results:
-        if result.quantity.kind is m.QuantityKind.VOLTAGE and result.figures is not None \
-                and result.figures.magnitude is not None:
-            highest = max(highest, abs(result.figures.magnitude.value))
+    highest = max(highest, _highest_node_voltage(netlist, solution, results, start, stop))
     if highest > ELV_DC_LIMIT:
         cautions.append(
             f"Voltages reach {highest:.4g} V, beyond the extra-low-voltage range (about 60 V "

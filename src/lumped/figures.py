@@ -807,6 +807,9 @@ def compute_figures(
     )
 
 
+_MAX_INTERVALS = 50_000
+
+
 def energy_dissipated(
     response: ResponseLike,
     coefficient: float,
@@ -891,10 +894,15 @@ def energy_dissipated(
         left, right = rule(a, middle), rule(middle, b)
         fine = left + right
         estimate = accepted + float(fine.sum())
-        # the integrand is never negative, so the total bounds every part
-        good = np.abs(fine - coarse) <= rtol * estimate * (b - a) / (stop - start) + 1e-300
+        # The integrand is never negative, so the total bounds every part; each open
+        # interval gets an equal share of the allowed error.
+        good = np.abs(fine - coarse) <= rtol * estimate / len(a) + 1e-300
         accepted += float(fine[good].sum())
         if good.all():
+            break
+        if len(a) > _MAX_INTERVALS:
+            # Far below any figure's resolution: stop refining rather than grow without bound.
+            accepted += float(fine[~good].sum())
             break
         bad = ~good
         a = np.concatenate((a[bad], middle[bad]))

@@ -34,6 +34,7 @@ import mpmath
 import numpy as np
 import sympy
 from flint import acb, acb_poly, ctx, fmpq, fmpq_poly, fmpz_poly
+from sympy.core.parameters import distribute
 
 __all__ = ["Impulse", "Mode", "ParametersNeeded", "TimeResponse", "invert"]
 
@@ -215,6 +216,15 @@ def _render_piece(piece: _Piece, tau: sympy.Expr, phase_form: bool) -> sympy.Exp
 
 
 def _render_group(group: _Group, t: sympy.Symbol, phase_form: bool) -> sympy.Expr:
+    if group.delay == 0:
+        return _render_shifted(group, t, phase_form)
+    # Keep (t - T) whole: distributed, exp(p*(t - T)) would become exp(-p*T)*exp(p*t),
+    # whose first factor overflows floating point for long delays.
+    with distribute(False):
+        return _render_shifted(group, t, phase_form)
+
+
+def _render_shifted(group: _Group, t: sympy.Symbol, phase_form: bool) -> sympy.Expr:
     tau = t - group.delay
     parts = []
     for item in group.items:

@@ -18,10 +18,11 @@ from pathlib import Path
 
 import numpy as np
 import sympy
+from sympy.printing.latex import LatexPrinter
 
 from . import __version__
 from . import model as m
-from .report import engineering, render
+from .report import engineering, numeric, render
 
 JSON_SCHEMA_VERSION = 1
 
@@ -215,14 +216,29 @@ def to_json(analysis) -> str:
     return json.dumps(document, indent=2, allow_nan=False) + "\n"
 
 
+class _ShortLatex(LatexPrinter):
+    """LaTeX with every number to six significant figures."""
+
+    def _print_Float(self, expr) -> str:  # noqa: N802 - sympy's printer protocol
+        text = f"{float(expr):.6g}"
+        if "e" in text:
+            mantissa, exponent = text.split("e")
+            return rf"{mantissa} \cdot 10^{{{int(exponent)}}}"
+        return text
+
+
+def _latex(expr: sympy.Expr) -> str:
+    return _ShortLatex().doprint(numeric(expr, 6))
+
+
 def to_latex(analysis) -> str:
     """The formulas as a LaTeX fragment (numbers to 6 significant figures)."""
     lines = [f"% lumped {__version__}: {analysis.netlist.source}"]
     for result in analysis.results:
         lines.append(f"% {result.quantity.label} [{result.unit}]")
-        lines.append(r"\[ X(s) = " + sympy.latex(sympy.N(result.response.transform, 6)) + r" \]")
+        lines.append(r"\[ X(s) = " + _latex(result.response.transform) + r" \]")
         if result.time is not None:
-            lines.append(r"\[ x(t) = " + sympy.latex(sympy.N(result.time.expression, 6))
+            lines.append(r"\[ x(t) = " + _latex(result.time.expression)
                          + r", \quad t \ge 0 \]")
     return "\n".join(lines) + "\n"
 
