@@ -80,7 +80,7 @@ class StandIn:
 
 
 def test_stand_in_first_order_rise():
-    # 2 (1 - e^{-t/3}): 10-90 % rise = 3 ln 9 (textbook first-order result)
+    # 2 (1 - e^{-t/3}): 10-90 % rise = 3 ln 9 (first-order step response, from memory)
     response = StandIn(
         (
             StandInMode(0j, 1, (2,), 0.0, False),

@@ -1,4 +1,9 @@
-"""Behaviour of the inverse Laplace engine (lumped.inversion)."""
+"""Behaviour of the inverse Laplace engine (lumped.inversion).
+
+The expected closed forms here are partial fractions worked by hand (common
+practice) and the transform pairs of Abramowitz & Stegun ch. 29 (from memory);
+the reference suite checks the same engine against mpmath and sympy.
+"""
 
 from __future__ import annotations
 
@@ -23,7 +28,7 @@ def _lambdified(result: TimeResponse):
 
 
 def test_improper_part_gives_impulses() -> None:
-    # (s^2+3s+1)/(s+1) = s + 2 - 1/(s+1)
+    # (s^2+3s+1)/(s+1) = s + 2 - 1/(s+1) by long division (worked by hand)
     result = invert((s**2 + 3 * s + 1) / (s + 1), s, t=t)
     assert set(result.impulses) == {
         Impulse(order=1, weight=sympy.Integer(1), delay=sympy.Integer(0)),

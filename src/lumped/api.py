@@ -66,6 +66,8 @@ def check_outputs(source: Path, outputs: list[Path]) -> None:
         if resolved in seen:
             raise NetlistError(f"two outputs are both {output}", hint="give each its own file")
         seen.add(resolved)
+        if resolved.is_dir():
+            raise NetlistError(f"{output} is a folder", hint="name a file to write")
         if not resolved.parent.is_dir():
             raise NetlistError(f"the folder for {output} does not exist",
                                hint="create it first or name another place")

@@ -75,13 +75,9 @@ def main(argv: list[str] | None = None) -> int:
         print(error.render(), file=sys.stderr)
         return EXIT_BAD_INPUT
     except LumpedError as error:
-        print(f"{args.netlist}: {error}", file=sys.stderr)
+        print(f"{args.netlist}: {error}\nhint: the network has no unique solution as written; "
+              "check the elements named above", file=sys.stderr)
         return EXIT_BAD_INPUT
-    except BrokenPipeError:
-        # The reader (e.g. `head`) left early: not an error of ours or of the netlist.
-        devnull = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(devnull, sys.stdout.fileno())
-        return EXIT_FAIL
     except KeyboardInterrupt:
         print("interrupted", file=sys.stderr)
         return 130
@@ -129,17 +125,17 @@ def _run(args: argparse.Namespace) -> int:
 
         print(network_summary(netlist))
         return EXIT_PASS
+    for name in args.transfer:
+        element = netlist.element(name)
+        if element is None or not element.kind.is_source:
+            sources = ", ".join(e.name for e in netlist.elements if e.kind.is_source)
+            raise NetlistError(f"--transfer {name}: there is no source of that name",
+                               hint=f"the sources are: {sources or 'none'}")
     analysis = api.analyse(netlist)
     status = api.emit(analysis, args)
     if args.transfer:
         from .report import transfer_text
 
-        for name in args.transfer:
-            element = netlist.element(name)
-            if element is None or not element.kind.is_source:
-                sources = ", ".join(e.name for e in netlist.elements if e.kind.is_source)
-                raise NetlistError(f"--transfer {name}: there is no source of that name",
-                                   hint=f"the sources are: {sources or 'none'}")
         for name in args.transfer:
             for result in analysis.results:
                 print()

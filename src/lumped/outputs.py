@@ -22,6 +22,7 @@ from sympy.printing.latex import LatexPrinter
 
 from . import __version__
 from . import model as m
+from .errors import NetlistError
 from .report import engineering, numeric, render
 
 JSON_SCHEMA_VERSION = 1
@@ -38,7 +39,27 @@ def write_atomically(path: Path, data: str | bytes) -> None:
     >>> p.read_text()
     'hello'
     """
-    path = Path(path)
+    os.replace(_write_temporary(Path(path), data), path)
+
+
+def write_all(files: list[tuple[Path, str | bytes]]) -> None:
+    """Write several files so that either all of them land or none is touched."""
+    staged: list[tuple[str, Path]] = []
+    try:
+        for path, data in files:
+            staged.append((_write_temporary(path, data), path))
+    except OSError as error:
+        for temporary, _ in staged:
+            Path(temporary).unlink(missing_ok=True)
+        raise NetlistError(f"cannot write {path}: {error.strerror or error}",
+                           hint="check the folder exists and is writable, and the disk has room"
+                           ) from None
+    for temporary, path in staged:
+        os.replace(temporary, path)
+
+
+def _write_temporary(path: Path, data: str | bytes) -> str:
+    """``data`` in a temporary file beside ``path``; returns the temporary's name."""
     binary = isinstance(data, bytes)
     handle, temporary = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".part")
     try:
@@ -50,10 +71,10 @@ def write_atomically(path: Path, data: str | bytes) -> None:
         umask = os.umask(0)
         os.umask(umask)
         os.chmod(temporary, 0o666 & ~umask)
-        os.replace(temporary, path)
     except BaseException:
         Path(temporary).unlink(missing_ok=True)
         raise
+    return temporary
 
 
 def sample_times(analysis, count: int) -> np.ndarray:
@@ -328,9 +349,14 @@ def emit(analysis, args) -> int:
         files.append((Path(args.latex), to_latex(analysis)))
     if args.plot:
         files.append((Path(args.plot), plot(analysis, Path(args.plot), count)))
-    for path, data in files:
-        write_atomically(path, data)
-    print(render(analysis, color=colour, quiet=args.quiet))
-    for path, _ in files:
-        print(f"wrote {path}")
-    return 0 if analysis.passed else 1
+    write_all(files)
+    status = 0 if analysis.passed else 1
+    try:
+        print(render(analysis, color=colour, quiet=args.quiet))
+        for path, _ in files:
+            print(f"wrote {path}")
+        sys.stdout.flush()
+    except BrokenPipeError:
+        # The reader (e.g. `head`) left early; the verdicts still decide the status.
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+    return status

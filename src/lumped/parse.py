@@ -48,6 +48,17 @@ MAX_BYTES = 2_000_000
 MAX_STATEMENTS = 5_000
 MAX_NESTING = 200
 MAX_LINE = 20_000
+
+# Names the published formulas use themselves: a parameter so named would read
+# ambiguously in the JSON and LaTeX (and could not be parsed back).
+RESERVED_NAMES = {
+    "s": "the Laplace variable", "t": "time", "pi": "the number pi",
+    "I": "the imaginary unit", "E": "Euler's number", "S": "sympy singletons",
+    "N": "numeric evaluation", "Q": "assumptions", "O": "order terms", "oo": "infinity",
+    "exp": "the exponential", "sqrt": "the square root", "sin": "sine", "cos": "cosine",
+    "sinh": "hyperbolic sine", "cosh": "hyperbolic cosine", "Heaviside": "the unit step",
+    "DiracDelta": "impulses", "Piecewise": "case forms", "Eq": "conditions",
+}
 MAX_EXPONENT = 600  # largest power of ten written in a number (1e600)
 MAX_BITS = 2_048  # largest numerator or denominator of an exact value (about 600 digits)
 
@@ -745,8 +756,10 @@ class _ModelBuilder:
         self.scope = _Scope(source)
         self.overrides = overrides or {}
 
-    def value(self, expr: Expr, unit: str, what: str, *, positive: bool = False) -> sympy.Expr:
+    def value(self, expr: Expr, unit: str, what: str, *, positive: bool = False,
+              number: bool = False) -> sympy.Expr:
         expected = dims_of(unit)
+        _check_rotation_units(expr, unit, what)
         result = self.scope.evaluate(expr, expected)
         if result.dims != expected:
             got = describe(result.dims)
@@ -759,6 +772,13 @@ class _ModelBuilder:
                 hint = f"write it in {want} (or a prefixed form), e.g. `{_example_for(unit)}`"
             raise NetlistError(message, expr.location, hint=hint)
         value = result.value
+        if number and value.free_symbols:
+            names = ", ".join(sorted(str(x) for x in value.free_symbols))
+            raise NetlistError(
+                f"{what} must be a number; it depends on {names}, which has no value",
+                expr.location,
+                hint="give the parameter a value with `let` or `--set NAME=VALUE`",
+            )
         if positive and value.is_number and not (value > 0):
             raise NetlistError(
                 f"{what} must be greater than zero, not {_show(value)}",
@@ -805,10 +825,10 @@ class _ModelBuilder:
                     )
                 gravity = self._gravity(children, loc)
             elif tag == "drop":
-                drops.append(
-                    m.Drop(str(children[0]), self.value(children[1], "m", "a drop height",
-                                                        positive=True), loc)
-                )
+                height = self.value(children[1], "m", "a drop height", number=True,
+                                    positive=True)
+                drops.append(m.Drop(str(children[0]), height, _token_loc(self.source,
+                                                                         children[0])))
         return m.Netlist(
             source=self.source,
             text=self.text,
@@ -834,6 +854,12 @@ class _ModelBuilder:
                 raise NetlistError(
                     f"parameter '{name}' is defined twice", _token_loc(self.source, name_token),
                     hint=f"the first definition is on line {first}; keep one",
+                )
+            if name in RESERVED_NAMES:
+                raise NetlistError(
+                    f"'{name}' is reserved and cannot name a parameter",
+                    _token_loc(self.source, name_token),
+                    hint="the results use it for " + RESERVED_NAMES[name] + "; choose another name",
                 )
             by_name[name] = statement
             graph.add_node(name)
@@ -871,8 +897,6 @@ class _ModelBuilder:
             children = statement.fields["children"]
             if statement.tag == "let_value":
                 result = self.scope.evaluate(children[1])
-                if name in declared:
-                    self._check_override(name, declared[name], result)
                 parameter = m.Parameter(
                     name, sympy.Symbol(name, positive=True), result.value,
                     describe(result.dims) if result.dims else "", statement.location,
@@ -895,6 +919,8 @@ class _ModelBuilder:
                 )
             self.scope.values[name] = result
             parameters.append(parameter)
+        for name, original in declared.items():
+            self._check_override(name, original, self.scope.values[name])
         # Keep the order of the file for display.
         parameters.sort(key=lambda p: (p.location.line, p.location.column))
         return parameters
@@ -933,6 +959,10 @@ class _ModelBuilder:
                     loc,
                     hint=f"write `{kind.word} {name} at NODE ...`",
                 )
+            if kind.value.one_terminal and a == reference:
+                # A mass's across value is its node's velocity against the frame,
+                # whichever way round the line names the two.
+                a, b = b, a
             return a, b
         node = str(placement[1])
         if kind.role is m.Role.THROUGH_SOURCE:
@@ -992,7 +1022,7 @@ class _ModelBuilder:
                 fields["frequency"] = self.value(term["frequency"], "Hz", "a frequency",
                                                  positive=True)
             if "phase" in term:
-                fields["phase"] = self.value(term["phase"], "", "a phase")
+                fields["phase"] = self.value(term["phase"], "", "a phase", number=True)
             if "time_constant" in term:
                 fields["time_constant"] = self.value(term["time_constant"], "s", "a time constant",
                                                      positive=True)
@@ -1031,10 +1061,10 @@ class _ModelBuilder:
     def _window(self, children, loc: Location) -> m.Window:
         if len(children) == 1:
             start = sympy.Integer(0)
-            stop = self.value(children[0], "s", "the window", positive=True)
+            stop = self.value(children[0], "s", "the window", positive=True, number=True)
         else:
-            start = self.value(children[0], "s", "the window start")
-            stop = self.value(children[1], "s", "the window end", positive=True)
+            start = self.value(children[0], "s", "the window start", number=True)
+            stop = self.value(children[1], "s", "the window end", positive=True, number=True)
         if start.is_number and start < 0:
             raise NetlistError("the window cannot start before t = 0", children[0].location,
                                hint="write `window START to STOP` with START >= 0")
@@ -1044,7 +1074,7 @@ class _ModelBuilder:
         return m.Window(start, stop, loc)
 
     def _band(self, expr: Expr) -> sympy.Expr:
-        band = self.value(expr, "", "the settling band", positive=True)
+        band = self.value(expr, "", "the settling band", positive=True, number=True)
         if band.is_number and not band < 1:
             raise NetlistError("the settling band must be below 100 %", expr.location,
                                hint="a band such as `2 %` or `5 %`")
@@ -1083,8 +1113,42 @@ class _ModelBuilder:
             if isinstance(child, tuple):
                 start = m.GravityStart(child[1])
             else:
-                acceleration = self.value(child, "m/s^2", "gravity", positive=True)
+                acceleration = self.value(child, "m/s^2", "gravity", positive=True, number=True)
         return m.Gravity(acceleration, start, loc)
+
+
+_ANGLE_WORDS = ("rad", "deg", "degree", "rev", "rpm", "turn", "grad", "arcmin", "arcsec")
+
+
+def _unit_texts(expr: Expr) -> list[tuple[str, Location]]:
+    found, stack = [], [expr]
+    while stack:
+        item = stack.pop()
+        if isinstance(item, Num) and item.unit:
+            found.append((item.unit, item.unit_location or item.location))
+        elif isinstance(item, Op):
+            stack.extend(item.args)
+    return found
+
+
+def _check_rotation_units(expr: Expr, unit: str, what: str) -> None:
+    """Hz and rad/s have the same dimensions; refuse the one that is off by 2 pi."""
+    import re
+
+    for text, where in _unit_texts(expr):
+        words = re.findall(r"[A-Za-zµΩ°]+", text)
+        angular = any(w in _ANGLE_WORDS for w in words)
+        cycles = any(w.endswith("Hz") for w in words)
+        if unit == "Hz" and angular:
+            raise NetlistError(
+                f"{what} must be in Hz, not an angular speed ({text})", where,
+                hint="f = omega / (2 pi): write e.g. `50 Hz`",
+            )
+        if unit.startswith("rad") and cycles:
+            raise NetlistError(
+                f"{what} must be in rad/s, not a frequency ({text})", where,
+                hint="omega = 2 pi f: write e.g. `314 rad/s` or `3000 rpm`",
+            )
 
 
 def _token_loc(source: str, token) -> Location:

@@ -172,7 +172,7 @@ def numeric(expr: sympy.Expr, digits: int = 15) -> sympy.Expr:
     """Evaluate every constant part of an expression (roots, pi, fractions) to floats."""
     if expr.is_Integer:
         return expr
-    if expr.is_Pow and expr.exp.is_Rational:
+    if expr.is_Pow and expr.exp.is_Rational and not expr.base.is_number:
         return sympy.Pow(numeric(expr.base, digits), expr.exp)
     if expr.is_number:
         return sympy.Float(expr.evalf(digits), digits) if expr.is_real is not False \
@@ -229,7 +229,7 @@ def _transform_text(response) -> str:
         if delay != 0:
             text = f"({text})*exp(-{short_formula(delay)}*s)"
         parts.append(text)
-    return " + ".join(parts) if parts else "0"
+    return " + ".join(parts).replace("+ -", "- ") if parts else "0"
 
 
 def _number(value: float) -> str:
@@ -324,10 +324,16 @@ def _figure_rows(result) -> list[tuple[str, str]]:
         # Excursions below a part per billion of the change are rounding, not overshoot.
         return f"{fraction * 100:.3g} %" if abs(fraction) >= 1e-9 else "0 %"
 
-    add("overshoot", percent(figs.overshoot), "overshoot")
-    add("undershoot", percent(figs.undershoot), "undershoot")
-    add("rise time 10-90 %", engineering(figs.rise_time, "s") if figs.rise_time is not None
-        else None, "rise_time")
+    swing = (figs.peak.value - figs.minimum.value) if figs.peak and figs.minimum else 0.0
+    if figs.change is not None and swing > 0 and abs(figs.change) < 0.05 * swing:
+        # Ending close to where it started (a drop, a pulse): step figures mean nothing.
+        add("overshoot, rise time", "not shown: the response ends within 5 % of its swing "
+            "from where it started, so step figures would mislead")
+    else:
+        add("overshoot", percent(figs.overshoot), "overshoot")
+        add("undershoot", percent(figs.undershoot), "undershoot")
+        add("rise time 10-90 %", engineering(figs.rise_time, "s") if figs.rise_time is not None
+            else None, "rise_time")
     add(f"settling ±{figs.band * 100:g} %", engineering(figs.settling_time, "s")
         if figs.settling_time is not None else None, "settling_time")
     add("time constant", engineering(figs.time_constant, "s") if figs.time_constant else None)

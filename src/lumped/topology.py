@@ -10,7 +10,8 @@ the element (or the watch / require line) concerned:
 - a watch or requirement naming an unknown node or element, or a quantity
   that does not belong to the target's domain;
 - a loop of ideal across sources, or a cut-set of ideal through sources;
-- electrical and mechanical terminals meeting at a node without a coupling.
+- electrical and mechanical terminals meeting at a node without a coupling;
+- a drop naming something that is not a mass, or the same mass twice.
 """
 
 from __future__ import annotations
@@ -76,7 +77,25 @@ def validate(netlist: m.Netlist) -> Topology:
     _check_across_loops(netlist)
     _check_through_cutsets(netlist)
     _check_targets(netlist, domains)
+    _check_drops(netlist)
     return Topology(domains, graph)
+
+
+def _check_drops(netlist: m.Netlist) -> None:
+    seen: set[str] = set()
+    masses = [e.name for e in netlist.elements if e.kind is m.Kind.MASS]
+    for drop in netlist.drops:
+        element = netlist.element(drop.mass)
+        if element is None or element.kind is not m.Kind.MASS:
+            close = difflib.get_close_matches(drop.mass, masses, n=1)
+            what = "no element" if element is None else f"a {element.kind.word}"
+            _fail(netlist, f"the drop names '{drop.mass}', which is {what}, not a mass",
+                  drop.location, f"did you mean '{close[0]}'?" if close else
+                  "drop one of the netlist's masses")
+        if drop.mass in seen:
+            _fail(netlist, f"'{drop.mass}' is dropped twice", drop.location,
+                  "keep one drop line per mass")
+        seen.add(drop.mass)
 
 
 def _check_names(netlist: m.Netlist) -> None:
