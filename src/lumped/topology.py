@@ -232,10 +232,16 @@ def _check_targets(netlist: m.Netlist, domains: dict[str, m.Domain]) -> None:
                       "name a node that an element connects to")
             domain = domains[target]
         else:
+            coupling = netlist.coupling(target)
+            if element is None and coupling is not None:
+                # A coupling's quantities are those of the port in the quantity's domain
+                # (the input port when both ports share a domain).
+                ports = (coupling.kind.input_domain, coupling.kind.output_domain)
+                if quantity.kind.domain not in ports:
+                    _fail(netlist, f"{quantity.kind.word} does not apply to {coupling.kind.word} "
+                          f"'{target}'", location, _quantity_hint(ports[0]))
+                continue
             if element is None:
-                if netlist.coupling(target) is not None:
-                    _fail(netlist, f"'{target}' is a coupling; watch the nodes on either side",
-                          location, f"e.g. `watch {quantity.kind.word} at NODE`")
                 close = difflib.get_close_matches(target, names + nodes, n=1)
                 _fail(netlist, f"unknown element '{target}'", location,
                       f"did you mean '{close[0]}'?" if close else "name an element of the netlist")

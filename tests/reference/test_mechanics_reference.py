@@ -144,3 +144,33 @@ def test_two_mass_corner_over_a_kerb_matches_hand_written_equations() -> None:
     span = np.ptp(reference.y[0])
     assert np.max(np.abs(body - reference.y[0])) < 1e-8 * span
     assert np.max(np.abs(wheel - reference.y[2])) < 1e-8 * np.ptp(reference.y[2])
+
+
+def test_motor_torque_is_constant_times_winding_current() -> None:
+    # Source: DC machine relations (common practice, from memory): torque = k i, and the
+    # winding current is the current of the series winding inductor (KCL).
+    k = 0.06
+    text = ("voltage source V at supply step 24 V\nresistor Rw from supply to wind 0.8 ohm\n"
+            "inductor Lw from wind to term 1.2 mH\n"
+            f"motor M1 from term to shaft constant {k} V*s/rad\n"
+            "inertia rotor at shaft 4e-5 kg*m^2\n"
+            "rotary damper B from shaft to frame 2e-5 N*m*s/rad\n"
+            "watch current in Lw, current in M1, torque in M1\nwindow 0.3 s\n")
+    analysis = analyse(loads(text))
+    times = np.linspace(0, 0.3, 301)
+    winding = analysis.result("current in Lw").time.evaluate(times)
+    current = analysis.result("current in M1").time.evaluate(times)
+    torque = analysis.result("torque in M1").time.evaluate(times)
+    assert current == pytest.approx(winding, rel=1e-12, abs=1e-15)
+    # The shaft port's through variable flows from the shaft through the motor to the
+    # frame, so the torque delivered into the shaft is its negative.
+    assert -torque == pytest.approx(k * current, rel=1e-12, abs=1e-15)
+
+
+def test_a_coupling_quantity_of_the_wrong_domain_is_refused() -> None:
+    from lumped.errors import ValidationError
+
+    text = ("voltage source V at a step 1 V\nmotor M1 from a to shaft constant 0.1 V*s/rad\n"
+            "inertia J at shaft 1 kg*m^2\nwatch force in M1\n")
+    with pytest.raises(ValidationError, match="force does not apply to motor 'M1'"):
+        loads(text)
