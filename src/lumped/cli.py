@@ -9,6 +9,7 @@ from __future__ import annotations
 import argparse
 import os
 import sys
+import textwrap
 from pathlib import Path
 
 from .errors import LumpedError, NetlistError
@@ -45,7 +46,7 @@ def _arguments() -> argparse.ArgumentParser:
     )
     parser.add_argument("netlist", nargs="?", help="the netlist file (.lumped)")
     parser.add_argument("--check", action="store_true",
-                        help="only read and validate the netlist, print its summary")
+                        help="only read, validate and solve the netlist in s; print its summary")
     parser.add_argument("--json", metavar="FILE", help="write the results as JSON")
     parser.add_argument("--csv", metavar="FILE", help="write sampled waveforms as CSV")
     parser.add_argument("--plot", metavar="FILE", help="draw the waveforms (.png or .svg)")
@@ -121,9 +122,13 @@ def _run(args: argparse.Namespace) -> int:
         values[name.strip()] = value.strip()
     netlist = api.load(source, values)
     if args.check:
+        from .equations import assemble
         from .report import network_summary
 
+        solution = assemble(netlist)  # a network without a unique solution fails here too
         print(network_summary(netlist))
+        for note in solution.notes:
+            print(textwrap.fill(note, 80, initial_indent="  note: ", subsequent_indent=" " * 8))
         return EXIT_PASS
     for name in args.transfer:
         element = netlist.element(name)

@@ -501,6 +501,13 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
                 rows.append(("leaves the surface", "not within the window"))
             for name, value in rows:
                 out.extend(_wrap(f"    {name:<20} ", value))
+        dissipators = sum(1 for e in analysis.netlist.elements
+                          if e.kind.role is m.Role.DISSIPATOR)
+        if dissipators and not analysis.dissipation:
+            out.append("")
+            out.append(_rule("energy dissipated over the window", colour))
+            out.extend(_wrap("    ", f"not computed: {dissipators} resistors and dampers (the "
+                             "report does this for 12 or fewer, or for dissipators with values)"))
         if analysis.dissipation:
             out.append("")
             out.append(_rule("energy dissipated over the window", colour))
