@@ -141,6 +141,29 @@ def _invert(response: Response) -> TimeResponse:
     return invert(rationalise(response.transform), s)
 
 
+def _network_pole_test(solution: Solution):
+    """A test for "is p a root of the network's characteristic polynomial?".
+
+    None when the polynomial has parameters; then every pole counts.
+    """
+    import mpmath
+
+    den = solution.denominator
+    if den.free_symbols - {s}:
+        return None
+    coefficients = [mpmath.mpf(int(c.p)) / int(c.q) for c in
+                    (sympy.Rational(x) for x in den.all_coeffs())]
+
+    def own(pole: complex) -> bool:
+        with mpmath.workdps(40):
+            z = mpmath.mpc(pole.real, pole.imag)
+            value = mpmath.polyval(coefficients, z)
+            scale = mpmath.polyval([abs(c) for c in coefficients], abs(z))
+            return bool(abs(value) <= 1e-8 * scale)
+
+    return own
+
+
 def _default_window(times: list[TimeResponse], netlist: m.Netlist) -> tuple[float, float]:
     slowest = 0.0
     delays = [0.0]
@@ -208,12 +231,14 @@ def analyse(netlist: m.Netlist) -> Analysis:
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
     band = float(netlist.settling_band)
+    own_pole = _network_pole_test(solution)
     results = []
     for quantity, response, time, problem in zip(quantities, responses, times, problems,
                                                  strict=True):
         figures = None
         if time is not None and not time.parameters:
-            figures = compute_figures(time, start, stop, band=band, kind=quantity.kind)
+            figures = compute_figures(time, start, stop, band=band, kind=quantity.kind,
+                                      own_pole=own_pole)
         elif time is not None and problem is None:
             names = ", ".join(sorted(str(p) for p in time.parameters))
             problem = f"figures need values for {names}"

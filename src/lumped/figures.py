@@ -613,6 +613,7 @@ def compute_figures(
     *,
     band: float = 0.02,
     kind: QuantityKind | None = None,
+    own_pole: Callable[[complex], bool] | None = None,
 ) -> Figures:
     """Measure the figures of a closed-form time response over a window.
 
@@ -629,6 +630,10 @@ def compute_figures(
     kind : QuantityKind or None, optional
         What the response is; acceleration adds figures in g, displacement
         and angle add the maximum travel.
+    own_pole : callable, optional
+        Tells whether a pole belongs to the network itself; the dominant time
+        constant and pair are then taken from those alone, not from poles a
+        source's waveform brings in (a sine's ±jω).
 
     Returns
     -------
@@ -750,11 +755,14 @@ def compute_figures(
             )
 
     # Mode figures: these describe the system, not the window.
-    decaying = [complex(m.pole) for m in modes if _active(m) and complex(m.pole).real < 0]
+    def counted(mode) -> bool:
+        return _active(mode) and (own_pole is None or own_pole(complex(mode.pole)))
+
+    decaying = [complex(m.pole) for m in modes if counted(m) and complex(m.pole).real < 0]
     time_constant = max((-1.0 / p.real for p in decaying), default=None)
     if time_constant is None:
         reasons["time_constant"] = "no decaying mode"
-    pairs = [complex(m.pole) for m in modes if _active(m) and m.is_pair]
+    pairs = [complex(m.pole) for m in modes if counted(m) and m.is_pair]
     natural = damping = ringing = ringing_hz = None
     if pairs:
         top = max(pairs, key=lambda p: p.real)
