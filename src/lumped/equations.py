@@ -83,13 +83,14 @@ from .model import (
     QuantityKind,
     Role,
 )
+from .topology import DATUM as _DATUM  # the merged reference node of the graphs
+from .topology import joined_graph
 from .waveforms import Piece
 
 s = waveforms.s
 
 STANDARD_GRAVITY = sympy.Rational(980665, 100000)  # m/s^2, the conventional standard value
 
-_DATUM = "<reference>"  # every reference node is this one node in the graphs below
 
 _ORIGINS = ("source", "initial", "gravity", "drop")
 _ZERO_STATE = ("source", "gravity")
@@ -1274,7 +1275,7 @@ def _analyse(source: str, quantity: Quantity, num: sympy.Poly, den: sympy.Poly) 
     if zero_order:
         dc_gain, note = None, f"H(s) has a pole of order {zero_order} at s = 0: no finite DC gain"
     else:
-        dc_gain, note = sympy.simplify(num.eval(0) / den.eval(0)), ""
+        dc_gain, note = sympy.simplify(num.eval(0) / den.eval(0)), ""  # Poly.eval: H(0)
     numeric = _numeric_poly(den) and _numeric_poly(num)
     factors: list[SecondOrderFactor] = []
     if numeric:
@@ -1510,17 +1511,8 @@ def _initial_notes(netlist: Netlist, plan: _Plan, extra: dict[str, sympy.Expr]) 
                 )
 
     # KCL: super-nodes joined by everything but through stores and through sources.
-    joined = nx.Graph()
-    joined.add_node(_DATUM)
-    for e in netlist.elements:
-        a, b = _graph_nodes(e.positive), _graph_nodes(e.negative)
-        joined.add_node(a)
-        joined.add_node(b)
-        if e.kind.role not in (Role.THROUGH_STORE, Role.THROUGH_SOURCE):
-            joined.add_edge(a, b)
-    for coupling in netlist.couplings:
-        for port in (coupling.input, coupling.output):
-            joined.add_edge(_graph_nodes(port.positive), _graph_nodes(port.negative))
+    joined = joined_graph(netlist, without=(Role.THROUGH_STORE, Role.THROUGH_SOURCE),
+                          couplings_join_ports=False)
     for component in nx.connected_components(joined):
         if _DATUM in component:
             continue
@@ -1622,7 +1614,7 @@ def _static_values(solution: Solution, plan: _Plan) -> dict[str, sympy.Expr]:
             num, den = solution._network_function(form, j)
             if num.is_zero:
                 continue
-            if den.eval(0) == 0:
+            if den.eval(0) == 0:  # Poly.eval is polynomial evaluation, not Python's eval
                 return None
             total += num.eval(0) / den.eval(0)
         return sympy.simplify(total * gravity)

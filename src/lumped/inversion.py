@@ -543,7 +543,7 @@ def _direct_sum(tau: np.ndarray, poles: np.ndarray, matrix: np.ndarray) -> np.nd
 
 def _exact_number(value: Any) -> sympy.Expr:
     # Only Python numbers reach sympify here (guarded by the isinstance), never text.
-    expr = sympy.sympify(value) if isinstance(value, (int, float, complex)) else value
+    expr = sympy.sympify(value) if isinstance(value, (int, float, complex)) else value  # numbers
     if isinstance(expr, sympy.Basic) and expr.atoms(sympy.Float):
         expr = sympy.nsimplify(expr, rational=True)
     return expr

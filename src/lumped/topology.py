@@ -25,7 +25,7 @@ import networkx as nx
 from . import model as m
 from .errors import Location, ValidationError
 
-_DATUM = "<reference>"
+DATUM = "<reference>"  # every reference node is this one node in the graphs
 
 
 @dataclass(frozen=True)
@@ -41,7 +41,7 @@ def _fail(netlist: m.Netlist, message: str, location: Location | None, hint: str
 
 
 def _datum(node: str) -> str:
-    return _DATUM if node in m.REFERENCE_NODES else node
+    return DATUM if node in m.REFERENCE_NODES else node
 
 
 def validate(netlist: m.Netlist) -> Topology:
@@ -147,13 +147,13 @@ def _check_domains(netlist: m.Netlist) -> dict[str, m.Domain]:
 
 
 def _check_reference(netlist: m.Netlist, graph: nx.MultiGraph) -> None:
-    if _DATUM not in graph:
+    if DATUM not in graph:
         first = netlist.elements[0]
         reference = first.domain.reference
         _fail(netlist, "nothing is connected to a reference node", first.location,
               f"connect the network to '{reference}' (electrical: ground; mechanical: frame)")
     for component in nx.connected_components(graph):
-        if _DATUM in component:
+        if DATUM in component:
             continue
         names = sorted(component)
         culprits = [e for e in netlist.elements
@@ -181,23 +181,43 @@ def _check_across_loops(netlist: m.Netlist) -> None:
             graph.add_edge(a, b, key=element.name)
 
 
-def _check_through_cutsets(netlist: m.Netlist) -> None:
-    # Every node must reach the reference without passing through a through source;
-    # otherwise the sources alone fix the flow across that cut.
+def joined_graph(netlist: m.Netlist, *, without: tuple[m.Role, ...],
+                 couplings_join_ports: bool) -> nx.Graph:
+    """Nodes joined by every element whose role is not in ``without``; references merged.
+
+    Each coupling joins the two ends of each of its ports, and with
+    ``couplings_join_ports`` its two ports to each other as well.
+
+    Examples
+    --------
+    >>> from lumped.parse import parse_text
+    >>> net = parse_text("current source I at a step 1 A\\nresistor R from a to ground 1 ohm\\n")
+    >>> sorted(joined_graph(net, without=(m.Role.THROUGH_SOURCE,),
+    ...                     couplings_join_ports=True).edges)
+    [('<reference>', 'a')]
+    """
     graph = nx.Graph()
-    graph.add_node(_DATUM)
+    graph.add_node(DATUM)
     for element in netlist.elements:
         a, b = _datum(element.positive), _datum(element.negative)
         graph.add_node(a)
         graph.add_node(b)
-        if element.kind.role is not m.Role.THROUGH_SOURCE:
+        if element.kind.role not in without:
             graph.add_edge(a, b)
     for coupling in netlist.couplings:
-        ends = [_datum(n) for p in (coupling.input, coupling.output)
-                for n in (p.positive, p.negative)]
-        for u, v in pairwise(ends):
+        ports = (coupling.input, coupling.output)
+        ends = [_datum(n) for p in ports for n in (p.positive, p.negative)]
+        links = pairwise(ends) if couplings_join_ports else (ends[:2], ends[2:])
+        for u, v in links:
             graph.add_edge(u, v)
-    reachable = nx.node_connected_component(graph, _DATUM)
+    return graph
+
+
+def _check_through_cutsets(netlist: m.Netlist) -> None:
+    # Every node must reach the reference without passing through a through source;
+    # otherwise the sources alone fix the flow across that cut.
+    graph = joined_graph(netlist, without=(m.Role.THROUGH_SOURCE,), couplings_join_ports=True)
+    reachable = nx.node_connected_component(graph, DATUM)
     for element in netlist.elements:
         if element.kind.role is not m.Role.THROUGH_SOURCE:
             continue
