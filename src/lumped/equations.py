@@ -1303,28 +1303,16 @@ def _analyse(source: str, quantity: Quantity, num: sympy.Poly, den: sympy.Poly) 
                 zeta = -float(sympy.re(root)) / wn
                 q = sympy.oo if zeta == 0 else sympy.Float(1 / (2 * zeta))
                 factors.append(SecondOrderFactor(sympy.Float(wn), sympy.Float(zeta), q, None))
-        return TransferFunction(
-            source,
-            quantity,
-            num,
-            den,
-            poles,
-            zeros,
-            dc_gain,
-            note,
-            tuple(factors),
-            stability,
-            tuple(offending),
-        )
-    poles = tuple(sympy.roots(den, multiple=True)) if den.degree() <= 2 else ()
-    zeros = tuple(sympy.roots(num, multiple=True)) if 0 < num.degree() <= 2 else ()
-    _, flist = sympy.factor_list(den.as_expr(), s)
-    for f, _ in flist:
-        fp = sympy.Poly(f, s)
-        if fp.degree() == 2:
-            a2, a1, a0 = fp.all_coeffs()
-            factors.append(_quadratic(a2, a1, a0))
-    stability, offending = _symbolic_stability(den, zero_order)
+    else:
+        poles = tuple(sympy.roots(den, multiple=True)) if den.degree() <= 2 else ()
+        zeros = tuple(sympy.roots(num, multiple=True)) if 0 < num.degree() <= 2 else ()
+        _, flist = sympy.factor_list(den.as_expr(), s)
+        for f, _ in flist:
+            fp = sympy.Poly(f, s)
+            if fp.degree() == 2:
+                a2, a1, a0 = fp.all_coeffs()
+                factors.append(_quadratic(a2, a1, a0))
+        stability, offending = _symbolic_stability(den, zero_order)
     return TransferFunction(
         source,
         quantity,
@@ -1336,7 +1324,7 @@ def _analyse(source: str, quantity: Quantity, num: sympy.Poly, den: sympy.Poly) 
         note,
         tuple(factors),
         stability,
-        offending,
+        tuple(offending),
     )
 
 
@@ -1616,7 +1604,7 @@ def _static_values(solution: Solution, plan: _Plan) -> dict[str, sympy.Expr]:
                 continue
             if den.eval(0) == 0:  # Poly.eval is polynomial evaluation, not Python's eval
                 return None
-            total += num.eval(0) / den.eval(0)
+            total += num.eval(0) / den.eval(0)  # Poly.eval at s = 0 (the static limit)
         return sympy.simplify(total * gravity)
 
     unsupported = []
