@@ -29,7 +29,7 @@ from . import model as m
 from .equations import Response, Solution, assemble, s
 from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from .inversion import ParametersNeeded, TimeResponse, invert
-from .topology import validate
+from .topology import falling_masses, validate
 from .units import STANDARD_GRAVITY
 
 # Extra-low-voltage limit for DC (common practice, from memory: 60 V ripple-free DC).
@@ -80,6 +80,7 @@ class DropResult:
     deceleration_time: float | None
     separation_time: float | None  # when the contact force would turn tensile
     rebound_velocity: float | None
+    falling: tuple[str, ...] = ()  # every mass that falls with the body, the body first
 
 
 @dataclass(frozen=True)
@@ -323,10 +324,11 @@ def _stored_energy(netlist: m.Netlist, domains=None) -> float | None:
                 else 1 / element.value
             total += compliance * element.initial**2 / 2
     for drop in netlist.drops if domains is None or m.Domain.TRANSLATIONAL in domains else ():
-        mass = netlist.element(drop.mass)
         g = netlist.gravity.acceleration if netlist.gravity else STANDARD_GRAVITY
-        if mass is not None and mass.value is not None:
-            total += mass.value * g * drop.height
+        for name in falling_masses(netlist, drop.mass):
+            mass = netlist.element(name)
+            if mass is not None and mass.value is not None:
+                total += mass.value * g * drop.height
     if total.free_symbols:
         return None
     return float(total)
@@ -352,13 +354,15 @@ def _highest_node_voltage(netlist, solution, results, start: float, stop: float)
                 watched.add(result.quantity.target)
     nodes = [n for n in dict.fromkeys(netlist.nodes)
              if n not in m.REFERENCE_NODES and solution.node_domain(n) is m.Domain.ELECTRICAL]
+    quantities = [m.Quantity(m.QuantityKind.VOLTAGE, node, "at") for node in nodes
+                  if node not in watched]
     if len(nodes) > _MAX_CHECKED_NODES:
-        return highest
-    for node in nodes:
-        if node in watched:
-            continue
+        # On large networks, at least the voltages the sources impose.
+        quantities = [m.Quantity(m.QuantityKind.VOLTAGE, e.name, "across")
+                      for e in netlist.elements if e.kind is m.Kind.VOLTAGE_SOURCE]
+    for quantity in quantities:
         try:
-            time = _invert(solution.response(m.Quantity(m.QuantityKind.VOLTAGE, node, "at")))
+            time = _invert(solution.response(quantity))
         except ParametersNeeded:
             continue
         if time.parameters:
@@ -369,24 +373,48 @@ def _highest_node_voltage(netlist, solution, results, start: float, stop: float)
     return highest
 
 
+def _grows_without_bound(time: TimeResponse) -> bool:
+    """True when a mode of the closed form grows: a pole in the right half-plane, or a
+    repeated pole on the imaginary axis whose powers of t do not vanish."""
+    for mode in time.modes:
+        real = sympy.re(mode.pole_exact) if mode.pole_exact is not None else mode.pole.real
+        if real > 0:
+            return True
+        if real == 0 and any(c != 0 for c in mode.coefficients[1:]):
+            return True
+    return False
+
+
 def _cautions(netlist, solution, results, verdicts, drops, start, stop) -> list[str]:
     cautions = []
+    # Only values the response reaches in the window count: a capacitor's initial
+    # voltage (reached at t = 0) and the computed voltages, never a waveform's
+    # parameters (a ramp's slope is not a voltage).
     highest = 0.0
     for element in netlist.elements:
-        if element.kind is m.Kind.VOLTAGE_SOURCE:
-            for term in element.waveform.terms:
-                if term.amplitude.is_number:
-                    highest = max(highest, abs(float(term.amplitude)))
         if element.kind is m.Kind.CAPACITOR and element.initial is not None \
                 and element.initial.is_number:
             highest = max(highest, abs(float(element.initial)))
     highest = max(highest, _highest_node_voltage(netlist, solution, results, start, stop))
     if highest > ELV_DC_LIMIT:
         cautions.append(
-            f"Voltages reach {highest:.4g} V, beyond the extra-low-voltage range (about 60 V "
-            "DC, common practice): treat the circuit as hazardous; insulation, clearances, "
-            "discharge paths and interlocks follow the applicable electrical safety standards."
+            f"Voltages reach {highest:.4g} V within the window, beyond the extra-low-voltage "
+            "range (about 60 V DC, common practice): treat the circuit as hazardous; "
+            "insulation, clearances, discharge paths and interlocks follow the applicable "
+            "electrical safety standards."
         )
+    for result in results:
+        if result.time is not None and not result.time.parameters \
+                and _grows_without_bound(result.time):
+            reached = ""
+            if result.figures is not None and result.figures.magnitude is not None:
+                reached = (f" (magnitude {result.figures.magnitude.value:.4g} {result.unit} "
+                           "by the end of the window)")
+            cautions.append(
+                f"The {result.quantity.label} grows without bound in this model{reached} and "
+                "keeps growing after the window: a real part saturates, breaks down or meets "
+                "a stop first, so judge only the window you care about."
+            )
     electrical = _stored_energy(netlist, {m.Domain.ELECTRICAL})
     mechanical = _stored_energy(netlist, {m.Domain.TRANSLATIONAL, m.Domain.ROTATIONAL})
     if electrical is not None and electrical > 1.0:
@@ -430,8 +458,9 @@ def _cautions(netlist, solution, results, verdicts, drops, start, stop) -> list[
     return cautions
 
 
-def _contact_force(netlist: m.Netlist, solution: Solution, node: str):
-    """The push of the surface on a body: the forces of the elements joining it to the frame.
+def _contact_force(netlist: m.Netlist, solution: Solution, nodes: set[str]):
+    """The push of the surface on a falling assembly: the forces of the elements joining
+    any of its nodes to the frame.
 
     Returns a callable of the times, or None when some part needs parameter values.
     """
@@ -439,14 +468,15 @@ def _contact_force(netlist: m.Netlist, solution: Solution, node: str):
     for element in netlist.elements:
         if element.kind.role not in (m.Role.THROUGH_STORE, m.Role.DISSIPATOR):
             continue
-        if {element.positive, element.negative} != {node, m.FRAME}:
+        ends = {element.positive, element.negative}
+        if m.FRAME not in ends or not ends & nodes:
             continue
         time = _invert(solution.response(m.Quantity(m.QuantityKind.FORCE, element.name, "in")))
         if time.parameters:
             return None
         # The element's force flows from its `from` end to its `to` end; on the body
         # it acts against that flow when the body is the `from` end.
-        parts.append((-1.0 if element.positive == node else 1.0, time))
+        parts.append((-1.0 if element.positive in nodes else 1.0, time))
     if not parts:
         return None
     return lambda times: sum(sign * time.evaluate(times) for sign, time in parts)
@@ -467,11 +497,13 @@ def _drop_figures(netlist: m.Netlist, solution: Solution, start: float,
         if mass is None:
             continue
         node = mass.positive
+        falling = falling_masses(netlist, drop.mass)
+        nodes = {body.positive for name in falling if (body := netlist.element(name))}
         try:
             parts = {kind: _invert(solution.response(m.Quantity(kind, node, "of")))
                      for kind in (m.QuantityKind.ACCELERATION, m.QuantityKind.DISPLACEMENT,
                                   m.QuantityKind.VELOCITY)}
-            contact = _contact_force(netlist, solution, node)
+            contact = _contact_force(netlist, solution, nodes)
         except ParametersNeeded:
             continue
         if any(p.parameters for p in parts.values()):
@@ -508,5 +540,6 @@ def _drop_figures(netlist: m.Netlist, solution: Solution, start: float,
             separation_time=separation,
             rebound_velocity=float(velocity.evaluate(np.array([separation]))[0])
             if separation is not None else None,
+            falling=falling,
         ))
     return found

@@ -84,7 +84,7 @@ from .model import (
     Role,
 )
 from .topology import DATUM as _DATUM  # the merged reference node of the graphs
-from .topology import joined_graph
+from .topology import falling_masses, joined_graph
 from .waveforms import Piece
 
 s = waveforms.s
@@ -385,11 +385,16 @@ def _plan(netlist: Netlist) -> _Plan:
             mass = netlist.element(drop.mass)
             if mass is None or mass.kind is not Kind.MASS:
                 raise SolveError(f"the drop names {drop.mass}, which is not a mass")
-            drop_velocity[drop.mass] = -sympy.sqrt(2 * gravity * drop.height)
-            if mass.initial is not None and mass.initial != 0:
-                notes.append(
-                    f"the drop of {mass.name} sets its initial velocity; the written one is unused"
-                )
+            # The whole assembly arrives at the contact speed; in free fall its
+            # internal springs carry no weight, so they start as written (unstressed).
+            for name in falling_masses(netlist, drop.mass):
+                drop_velocity[name] = -sympy.sqrt(2 * gravity * drop.height)
+                body = netlist.element(name)
+                if body is not None and body.initial is not None and body.initial != 0:
+                    notes.append(
+                        f"the drop of {drop.mass} sets the initial velocity of {name}; "
+                        "the written one is unused"
+                    )
 
     def add_store_inputs(element: Element, column: dict, word: str) -> None:
         """The companion source of a store's initial value (or its drop velocity), and the
@@ -1482,7 +1487,9 @@ def _initial_notes(netlist: Netlist, plan: _Plan, extra: dict[str, sympy.Expr]) 
                     parent[v] = (u, data["name"])
                     queue.append(v)
         tree = {name for _, name in parent.values()}
-        for _, _, data in graph.edges(data=True):
+        # Only this component's edges: stores need not touch the reference, so the
+        # graph may hold several groups, each with its own potentials.
+        for _, _, data in graph.subgraph(component).edges(data=True):
             if data["name"] in tree:
                 continue
             e = netlist.element(data["name"])

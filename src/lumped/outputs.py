@@ -222,6 +222,7 @@ def to_json(analysis) -> str:
         else {"value": analysis.stored_energy, "unit": "J"},
         "drops": [{
             "mass": d.mass, "height": d.height, "contact_velocity": d.contact_velocity,
+            "falling": list(d.falling),
             "max_compression": _number(d.max_compression),
             "compression_time": _number(d.compression_time),
             "peak_deceleration": _number(d.peak_deceleration),

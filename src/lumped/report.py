@@ -487,6 +487,9 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
             out.append("")
             out.append(_rule(f"drop of {drop.mass} from {engineering(drop.height, 'm')}", colour))
             rows = [("contact velocity", engineering(drop.contact_velocity, "m/s"))]
+            if len(drop.falling) > 1:
+                rows.append(("falling together", ", ".join(drop.falling) + " (all arrive at "
+                             "the contact velocity; internal springs start as written)"))
             if drop.max_compression is not None:
                 rows.append(("maximum compression", f"{engineering(drop.max_compression, 'm')} "
                              f"at {engineering(drop.compression_time, 's')}"))

@@ -81,7 +81,45 @@ def validate(netlist: m.Netlist) -> Topology:
     return Topology(domains, graph)
 
 
+def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
+    """The masses that fall with a dropped one, the dropped mass first.
+
+    Everything joined to the dropped body by springs, dampers or couplings
+    without passing through the frame falls with it: an instrument on an
+    isolator inside a package lands at the package's speed.
+
+    Examples
+    --------
+    >>> from lumped.parse import parse_text
+    >>> net = parse_text("mass box 8 kg\\nmass gauge 1 kg\\n"
+    ...                  "spring Kpad from box to frame 80 kN/m\\n"
+    ...                  "spring Kiso from gauge to box 20 kN/m\\ndrop box from 1 m\\n")
+    >>> falling_masses(net, "box")
+    ('box', 'gauge')
+    """
+    graph = nx.Graph()
+    for element in netlist.elements:
+        if element.domain is not m.Domain.TRANSLATIONAL:
+            continue
+        graph.add_node(element.positive)
+        if m.FRAME not in (element.positive, element.negative):
+            graph.add_edge(element.positive, element.negative)
+    for coupling in netlist.couplings:
+        ends = [n for port in (coupling.input, coupling.output)
+                for n in (port.positive, port.negative) if n != m.FRAME]
+        if coupling.kind.input_domain is coupling.kind.output_domain is m.Domain.TRANSLATIONAL:
+            graph.add_edges_from(pairwise(ends))
+    body = netlist.element(dropped)
+    if body is None or body.positive not in graph:
+        return (dropped,)
+    moving = nx.node_connected_component(graph, body.positive)
+    others = [e.name for e in netlist.elements
+              if e.kind is m.Kind.MASS and e.positive in moving and e.name != dropped]
+    return (dropped, *others)
+
+
 def _check_drops(netlist: m.Netlist) -> None:
+    falls_with: dict[str, str] = {}
     seen: set[str] = set()
     masses = [e.name for e in netlist.elements if e.kind is m.Kind.MASS]
     for drop in netlist.drops:
@@ -96,6 +134,13 @@ def _check_drops(netlist: m.Netlist) -> None:
             _fail(netlist, f"'{drop.mass}' is dropped twice", drop.location,
                   "keep one drop line per mass")
         seen.add(drop.mass)
+        for body in falling_masses(netlist, drop.mass):
+            if body in falls_with:
+                _fail(netlist, f"'{body}' falls with both '{falls_with[body]}' and "
+                      f"'{drop.mass}': they are one assembly", drop.location,
+                      "keep one drop line per assembly (everything joined to the dropped "
+                      "mass without passing through the frame falls with it)")
+            falls_with[body] = drop.mass
 
 
 def _check_names(netlist: m.Netlist) -> None:
