@@ -76,7 +76,7 @@ def test_lc_tank_minimum_at_half_a_period():
     assert 0 < figs.extreme_tolerance < 1e-6
     report = render(analysis)
     assert "99.3 µs" in _text_row(report, "minimum")
-    assert "tolerance" in report
+    assert f"within {figs.extreme_tolerance:.0e} of the largest |x|" in " ".join(report.split())
     document = json.loads(to_json(analysis))
     shown = document["quantities"][0]["figures"]
     assert shown["minimum"]["time"] == pytest.approx(math.pi / w, rel=1e-6)
@@ -140,7 +140,7 @@ def test_even_quartic_poles_certified_on_the_axis():
     reference = sympy.inverse_laplace_transform(1 / (s**4 + 3 * s**2 + 1), s, t)
     for instant in (0.3, 1.7, 12.5):
         assert float(expr.subs(response.t, instant)) == pytest.approx(
-            float(reference.subs(t, instant).evalf()), rel=1e-10, abs=1e-14)
+            complex(reference.subs(t, instant).evalf()).real, rel=1e-10, abs=1e-14)
 
 
 def test_off_axis_even_quartic_keeps_its_real_parts():
@@ -207,7 +207,7 @@ def test_sine_rc_window_from_the_network_and_the_source():
     # ~6-8 time constants (RC = 1 ms) plus a few periods of 1.7 kHz (common practice)
     assert 5e-3 <= analysis.stop <= 2e-2
     assert "time constant" in analysis.window_rule and "period" in analysis.window_rule
-    assert analysis.window_rule in render(analysis)
+    assert analysis.window_rule in " ".join(render(analysis).split())
     figs = analysis.results[0].figures
     assert figs.shape == "oscillation"
     times, values = _sine_rc_reference(analysis.stop)

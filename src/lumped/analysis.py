@@ -98,6 +98,7 @@ class Analysis:
     stored_energy: float | None = None  # joules at t = 0
     drops: tuple[DropResult, ...] = ()
     window_chosen: bool = False
+    window_rule: str = ""  # how the tool chose the window, when it did
 
     @property
     def passed(self) -> bool:
@@ -164,28 +165,79 @@ def _network_pole_test(solution: Solution):
     return own
 
 
-def _default_window(times: list[TimeResponse], netlist: m.Netlist) -> tuple[float, float]:
-    slowest = 0.0
+# The automatic window: the transients settling (several of the network's slowest decaying
+# time constants) plus a few periods of what goes on for ever (common practice, no source).
+_WINDOW_TIME_CONSTANTS = 7
+_WINDOW_PERIODS = 3
+_WINDOW_GROWTH_TIMES = 5
+_AXIS_TOL = 1e-10  # |Re p| below this times |p| is a sustained oscillation, as in figures.py
+
+
+def _seconds(value: float) -> str:
+    """A time for a sentence, with an SI prefix (3 significant figures)."""
+    for factor, prefix in ((1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p")):
+        if value >= factor * 0.9995:
+            return f"{value / factor:.3g} {prefix}s"
+    return f"{value:.3g} s"
+
+
+def _default_window(times: list[TimeResponse], netlist: m.Netlist,
+                    own_pole=None) -> tuple[float, float, str]:
+    """The window a reader wants when the netlist gives none, and the rule that chose it.
+
+    Decaying poles of the network itself set the settling part (a source's own
+    poles, such as a decaying exponential's, count as well when no network pole
+    decays).  Poles on the imaginary axis, the network's or a source's, add a
+    few periods; a pole at 0 (a conserved charge or momentum, a constant) adds
+    nothing.  Growing modes add a few growth times.  Everything starts after the
+    last switching instant.
+    """
+    network_tau = source_tau = growth = 0.0
+    periods: list[float] = []
     delays = [0.0]
-    ringing = []
     for time in times:
         for mode in time.modes:
+            if not any(c != 0 for c in mode.coefficients):
+                continue
             delays.append(float(mode.delay))
-            if mode.time_constant is not None and math.isfinite(mode.time_constant):
-                slowest = max(slowest, mode.time_constant)
-            if mode.ringing_frequency and mode.ringing_frequency > 0:
-                ringing.append(2 * math.pi / mode.ringing_frequency)
+            pole = complex(mode.pole)
+            size = abs(pole)
+            if size == 0:
+                continue  # a constant or a conserved quantity: no time scale
+            if abs(pole.real) <= _AXIS_TOL * size:
+                periods.append(2 * math.pi / abs(pole.imag))
+            elif pole.real > 0:
+                growth = max(growth, 1 / pole.real)
+            elif own_pole is None or own_pole(pole):
+                network_tau = max(network_tau, -1 / pole.real)
+            else:
+                source_tau = max(source_tau, -1 / pole.real)
     for element in netlist.elements:
         for term in element.waveform.terms if element.waveform else ():
             if term.delay.is_number:
                 delays.append(float(term.delay))
-    if slowest > 0:
-        span = 6 * slowest
-    elif ringing:
-        span = 10 * max(ringing)
-    else:
-        span = 1.0
-    return 0.0, max(delays) + span
+    tau = network_tau or source_tau
+    parts, rules = [], []
+    if tau > 0:
+        parts.append(_WINDOW_TIME_CONSTANTS * tau)
+        rules.append(f"{_WINDOW_TIME_CONSTANTS} times the slowest decaying time constant "
+                     f"({_seconds(tau)})")
+    if periods:
+        parts.append(_WINDOW_PERIODS * max(periods))
+        rules.append(f"{_WINDOW_PERIODS} periods of the slowest sustained oscillation "
+                     f"({_seconds(max(periods))} each)")
+    if growth > 0:
+        parts.append(_WINDOW_GROWTH_TIMES * growth)
+        rules.append(f"{_WINDOW_GROWTH_TIMES} growth times of the fastest-growing mode "
+                     f"({_seconds(growth)})")
+    if not parts:
+        parts.append(1.0)
+        rules.append("1 s (the response has no time scale of its own)")
+    last = max(delays)
+    rule = " plus ".join(rules)
+    if last > 0:
+        rule = f"the last switching instant ({_seconds(last)}) plus " + rule
+    return 0.0, last + sum(parts), rule
 
 
 def _quantities(netlist: m.Netlist) -> list[m.Quantity]:
@@ -226,12 +278,14 @@ def analyse(netlist: m.Netlist) -> Analysis:
                             "(the denominator is above second order in s)")
     window_chosen = netlist.window is None or not (
         netlist.window.start.is_number and netlist.window.stop.is_number)
+    own_pole = _network_pole_test(solution)
+    window_rule = ""
     if window_chosen:
-        start, stop = _default_window([t for t in times if t is not None], netlist)
+        start, stop, window_rule = _default_window([t for t in times if t is not None],
+                                                   netlist, own_pole)
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
     band = float(netlist.settling_band)
-    own_pole = _network_pole_test(solution)
     results = []
     for quantity, response, time, problem in zip(quantities, responses, times, problems,
                                                  strict=True):
@@ -269,6 +323,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
         drops=tuple(drops),
         stored_energy=stored,
         window_chosen=window_chosen,
+        window_rule=window_rule,
     )
 
 
