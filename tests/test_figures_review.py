@@ -17,7 +17,7 @@ from scipy.integrate import solve_ivp
 
 from lumped.analysis import analyse
 from lumped.api import loads
-from lumped.figures import compute_figures
+from lumped.figures import compute_figures, energy_dissipated
 from lumped.inversion import invert
 from lumped.outputs import to_json
 from lumped.report import render
@@ -232,7 +232,7 @@ def test_a_million_periods_cost_no_more_than_a_few():
     stop = 1e6 * 2 * math.pi / w
     figs = compute_figures(response, 0.0, stop)
     steady = 1 / math.sqrt(1 + (w * 1e-3) ** 2)
-    times, values = _sine_rc_reference(1e-2)
+    _, values = _sine_rc_reference(1e-2)
     assert figs.peak.value == pytest.approx(max(steady, values.max()), rel=1e-5)
     assert figs.peak.time < 1e-2
     assert figs.minimum.value == pytest.approx(min(-steady, values.min()), rel=1e-5)
@@ -245,3 +245,22 @@ def test_plot_marks_both_extremes(tmp_path):
     data = plot(analysis, tmp_path / "tank.svg")
     text = data.decode()
     assert "minimum" in text and "peak" in text
+
+
+def test_incommensurate_sustained_frequencies_say_how_far_they_were_searched():
+    # cos(t) + cos(sqrt(2) t): no common period, the sup 2 is only approached
+    response = invert(s / (s**2 + 1) + s / (s**2 + 2), s)
+    figs = compute_figures(response, 0.0, 1e7)
+    assert "without a common period" in figs.reasons["extremes"]
+    assert 1.9 < figs.peak.value <= 2.0
+    assert figs.peak.time == pytest.approx(0.0, abs=1e-12)  # 2 at t = 0 exactly
+
+
+def test_energy_over_a_long_ringing_window():
+    # x = e^-t + cos(10 t) in 1 ohm: the integral of x^2 by sympy.integrate, exact
+    w, stop = 10, 1e4 * 2 * math.pi / 10
+    response = invert(1 / (s + 1) + s / (s**2 + w**2), s)
+    t = sympy.Symbol("t", positive=True)
+    x = sympy.exp(-t) + sympy.cos(w * t)
+    exact = sympy.integrate(sympy.expand(x**2), (t, 0, sympy.Float(stop, 30)))
+    assert energy_dissipated(response, 1.0, 0.0, stop) == pytest.approx(float(exact), rel=1e-9)

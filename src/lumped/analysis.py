@@ -167,7 +167,7 @@ def _network_pole_test(solution: Solution):
 
 # The automatic window: the transients settling (several of the network's slowest decaying
 # time constants) plus a few periods of what goes on for ever (common practice, no source).
-_WINDOW_TIME_CONSTANTS = 7
+_WINDOW_TIME_CONSTANTS = 6
 _WINDOW_PERIODS = 3
 _WINDOW_GROWTH_TIMES = 5
 _AXIS_TOL = 1e-10  # |Re p| below this times |p| is a sustained oscillation, as in figures.py

@@ -442,6 +442,28 @@ def _common_period(omegas: Sequence[float]) -> float | None:
     return 2 * math.pi * common / slowest
 
 
+def _periodic_tail(
+    modes: Sequence[ModeLike], start: float
+) -> tuple[float, float | None, list[float]]:
+    """When the response becomes a constant plus sinusoids, their period, their frequencies.
+
+    ``quiet`` is after every switching instant and after every decaying mode
+    has fallen to e^-40 of its start.  The frequencies are empty when nothing
+    oscillates for ever or something grows; the period is None when the
+    frequencies have no common period.
+    """
+    active = [m for m in modes if _active(m)]
+    grows, omegas = _sustained(active)
+    if grows or not omegas:
+        return math.inf, None, []
+    quiet = max([start] + [float(m.delay) for m in active])
+    for mode in active:
+        pole = complex(mode.pole)
+        if pole.real < -_AXIS_TOL * abs(pole):
+            quiet = max(quiet, float(mode.delay) + _LIVE_DECAYS / -pole.real)
+    return quiet, _common_period(omegas), omegas
+
+
 def _search_stop(modes: Sequence[ModeLike], start: float, stop: float) -> tuple[float, str]:
     """Where the search for extremes can end without missing a new value.
 
@@ -453,16 +475,9 @@ def _search_stop(modes: Sequence[ModeLike], start: float, stop: float) -> tuple[
     Frequencies without a common period are searched over a fixed number of
     periods, and the reason says so.
     """
-    active = [m for m in modes if _active(m)]
-    grows, omegas = _sustained(active)
-    if grows or not omegas:
+    quiet, period, omegas = _periodic_tail(modes, start)
+    if not omegas:
         return stop, ""
-    quiet = max([start] + [float(m.delay) for m in active])
-    for mode in active:
-        pole = complex(mode.pole)
-        if pole.real < -_AXIS_TOL * abs(pole):
-            quiet = max(quiet, float(mode.delay) + _LIVE_DECAYS / -pole.real)
-    period = _common_period(omegas)
     if period is not None:
         end = quiet + 1.01 * period  # a hair over one period: both ends of it are seen
         return (end, "") if end < stop else (stop, "")
@@ -1067,6 +1082,22 @@ def energy_dissipated(
         raise ValueError(f"the window must satisfy 0 <= start < stop, got {start} .. {stop}")
     if any(start <= _real(imp.delay) <= stop for imp in response.impulses):
         return math.inf
+    # Once only a periodic part is left, every whole period dissipates the same energy:
+    # integrate one and count them, so a long window costs no more than a short one.
+    quiet, period, _ = _periodic_tail(response.modes, start)
+    if period is not None and quiet + 4 * period < stop:
+        whole = int((stop - quiet) // period) - 1
+        middle = quiet + whole * period
+        return (_square_integral(response, coefficient, start, quiet, rtol)
+                + whole * _square_integral(response, coefficient, quiet, quiet + period, rtol)
+                + _square_integral(response, coefficient, middle, stop, rtol))
+    return _square_integral(response, coefficient, start, stop, rtol)
+
+
+def _square_integral(
+    response: ResponseLike, coefficient: float, start: float, stop: float, rtol: float
+) -> float:
+    """coefficient * ∫ x(t)^2 dt over [start, stop] by adaptive Gauss-Legendre quadrature."""
     modes = [m for m in response.modes if _active(m)]
     points = {float(m.delay) for m in modes if start < float(m.delay) < stop}
     for mode in modes:

@@ -338,8 +338,9 @@ def _figure_rows(result) -> list[tuple[str, str]]:
     add("minimum", at(figs.minimum), "minimum")
     if figs.extreme_tolerance is not None and (figs.peak is not None
                                                or figs.minimum is not None):
+        searched = f"; {figs.reasons['extremes']}" if "extremes" in figs.reasons else ""
         add("extremes", f"each at the first time reached, within {figs.extreme_tolerance:.0e}"
-            " of the largest |x|")
+            f" of the largest |x|{searched}")
     if figs.peak_g is not None or figs.minimum_g is not None:
         add("peak in g", f"{figs.peak_g:.3g} g / minimum {figs.minimum_g:.3g} g"
             if figs.peak_g is not None and figs.minimum_g is not None else None)
