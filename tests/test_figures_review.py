@@ -135,12 +135,28 @@ def test_even_quartic_poles_certified_on_the_axis():
     expr = response.expression
     assert not expr.has(sympy.exp)
     assert not expr.has(sympy.cos)
-    # the sum of sines still matches the transform: sympy's own inversion
-    t = sympy.Symbol("t", positive=True)
-    reference = sympy.inverse_laplace_transform(1 / (s**4 + 3 * s**2 + 1), s, t)
+    # 1/((s^2 + a)(s^2 + b)) = (1/(s^2 + a) - 1/(s^2 + b))/(b - a), and 1/(s^2 + w^2) is
+    # sin(w t)/w (table of transforms, from memory)
+    a, b = (3 - math.sqrt(5)) / 2, (3 + math.sqrt(5)) / 2
     for instant in (0.3, 1.7, 12.5):
-        assert float(expr.subs(response.t, instant)) == pytest.approx(
-            complex(reference.subs(t, instant).evalf()).real, rel=1e-10, abs=1e-14)
+        reference = (math.sin(math.sqrt(a) * instant) / math.sqrt(a)
+                     - math.sin(math.sqrt(b) * instant) / math.sqrt(b)) / (b - a)
+        assert float(expr.subs(response.t, instant)) == pytest.approx(reference, rel=1e-10)
+
+
+def test_even_sextic_mixes_axis_and_off_axis_roots():
+    # s^6 + s^2 + 1 = q(s^2), q(u) = u^3 + u + 1 irreducible with one real root u0 < 0
+    # (Cardano, from memory): s = ±j sqrt(-u0) on the axis, the other four off it.
+    # numpy.roots as the reference for where the roots lie.
+    response = invert(s / (s**6 + s**2 + 1), s)
+    roots = np.roots([1, 0, 0, 0, 1, 0, 1])
+    upper = sorted((r for r in roots if r.imag > 0), key=lambda r: (r.real, r.imag))
+    poles = sorted((m.pole for m in response.modes), key=lambda p: (p.real, p.imag))
+    assert np.allclose(poles, upper, rtol=1e-12)
+    on_axis = [m for m in response.modes if abs(m.pole.real) < 1e-6]
+    assert len(on_axis) == 1 and on_axis[0].pole.real == 0.0
+    assert on_axis[0].damping_ratio == 0.0
+    assert math.copysign(1.0, on_axis[0].damping_ratio) == 1.0
 
 
 def test_off_axis_even_quartic_keeps_its_real_parts():

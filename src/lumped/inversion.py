@@ -147,7 +147,7 @@ class Mode:
         magnitude = abs(self.pole)
         if magnitude == 0:
             return None
-        return -self.pole.real / magnitude
+        return -self.pole.real / magnitude + 0.0  # + 0.0: a pole on the axis gives 0, not -0
 
     @property
     def ringing_frequency(self) -> float:
