@@ -200,6 +200,9 @@ def test_shapes_of_step_oscillation_and_growth():
     oscillation = compute_figures(invert(s / (s**2 + 4), s), 0.0, 10.0)
     assert oscillation.shape == "oscillation"
     assert oscillation.rise_time is None and "oscillation" in oscillation.reasons["rise_time"]
+    constant = compute_figures(invert(3 / s, s), 0.0, 1.0)
+    assert constant.shape == "constant" and constant.rise_time is None
+    assert "constant" in constant.reasons["rise_time"]
     growth = compute_figures(invert(1 / (s * (s - 1)), s), 0.0, 2.0)
     assert growth.shape == "growth"
     assert growth.overshoot is None and "grow" in growth.reasons["overshoot"]

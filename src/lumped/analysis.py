@@ -20,6 +20,7 @@ True
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -155,6 +156,7 @@ def _network_pole_test(solution: Solution):
     coefficients = [mpmath.mpf(int(c.p)) / int(c.q) for c in
                     (sympy.Rational(x) for x in den.all_coeffs())]
 
+    @functools.lru_cache(maxsize=4096)  # every response of the network asks about the same poles
     def own(pole: complex) -> bool:
         with mpmath.workdps(40):
             z = mpmath.mpc(pole.real, pole.imag)

@@ -159,7 +159,7 @@ class Figures:
         apply: ``"step"`` (a step-like change: rise time, overshoot,
         undershoot and settling), ``"decay"`` (back toward zero or where it
         started: settling only), ``"oscillation"`` (sustained) or
-        ``"growth"`` (unbounded); the mode figures (time constant, pair,
+        ``"growth"`` (unbounded), or ``"constant"``; the mode figures (time constant, pair,
         ringing) describe the network and apply whenever such modes exist.
     extreme_tolerance
         Peak and minimum are the first instants at which the response comes
@@ -507,7 +507,7 @@ def _response_shape(
     pulse, a dropped body's acceleration; settling applies when there is a
     change, rise time and overshoot do not).  ``oscillation``: it never
     settles, ``growth``: it grows without bound (no final value, so none of
-    the change figures apply).  ``high`` and ``low`` bound the response over
+    the change figures apply).  ``constant``: nothing changes.  ``high`` and ``low`` bound the response over
     the window.
     """
     if final is None:
@@ -518,7 +518,7 @@ def _response_shape(
     swing = max(high, initial, final) - min(low, initial, final)
     scale = max(abs(initial), abs(final), swing)
     if scale == 0 or swing <= 1e-12 * scale:
-        return "decay", "the response is constant (no change to measure against)"
+        return "constant", "the response is constant (no change to measure against)"
     if abs(change) <= 1e-9 * scale:
         return "decay", ("the response returns to where it started (no change to measure "
                          "against: a decay or pulse, not a step-like change)")
