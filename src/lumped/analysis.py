@@ -183,18 +183,18 @@ def _seconds(value: float) -> str:
     return f"{value:.3g} s"
 
 
-def _default_window(times: list[TimeResponse], netlist: m.Netlist,
-                    own_pole=None) -> tuple[float, float, str]:
+def _default_window(times: list[TimeResponse],
+                    netlist: m.Netlist) -> tuple[float, float, str]:
     """The window a reader wants when the netlist gives none, and the rule that chose it.
 
-    Decaying poles of the network itself set the settling part (a source's own
-    poles, such as a decaying exponential's, count as well when no network pole
-    decays).  Poles on the imaginary axis, the network's or a source's, add a
-    few periods; a pole at 0 (a conserved charge or momentum, a constant) adds
-    nothing.  Growing modes add a few growth times.  Everything starts after the
-    last switching instant.
+    The slowest decaying pole sets the settling part (the network's or a
+    source's: both must have died out).  Poles on the imaginary axis, the
+    network's or a source's, add a few periods; a pole at 0 (a conserved charge
+    or momentum, a constant) adds nothing; a pole within rounding of the axis
+    counts as on it, never as an enormous time constant.  Growing modes add a
+    few growth times.  Everything starts after the last switching instant.
     """
-    network_tau = source_tau = growth = 0.0
+    tau = growth = 0.0
     periods: list[float] = []
     delays = [0.0]
     for time in times:
@@ -210,15 +210,12 @@ def _default_window(times: list[TimeResponse], netlist: m.Netlist,
                 periods.append(2 * math.pi / abs(pole.imag))
             elif pole.real > 0:
                 growth = max(growth, 1 / pole.real)
-            elif own_pole is None or own_pole(pole):
-                network_tau = max(network_tau, -1 / pole.real)
             else:
-                source_tau = max(source_tau, -1 / pole.real)
+                tau = max(tau, -1 / pole.real)
     for element in netlist.elements:
         for term in element.waveform.terms if element.waveform else ():
             if term.delay.is_number:
                 delays.append(float(term.delay))
-    tau = network_tau or source_tau
     parts, rules = [], []
     if tau > 0:
         parts.append(_WINDOW_TIME_CONSTANTS * tau)
@@ -284,7 +281,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
     window_rule = ""
     if window_chosen:
         start, stop, window_rule = _default_window([t for t in times if t is not None],
-                                                   netlist, own_pole)
+                                                   netlist)
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
     band = float(netlist.settling_band)

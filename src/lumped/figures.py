@@ -507,8 +507,8 @@ def _response_shape(
     pulse, a dropped body's acceleration; settling applies when there is a
     change, rise time and overshoot do not).  ``oscillation``: it never
     settles, ``growth``: it grows without bound (no final value, so none of
-    the change figures apply).  ``constant``: nothing changes.  ``high`` and ``low`` bound the response over
-    the window.
+    the change figures apply).  ``constant``: nothing changes.  ``high`` and
+    ``low`` bound the response over the window.
     """
     if final is None:
         if grows:
