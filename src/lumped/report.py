@@ -336,11 +336,8 @@ def _figure_rows(result) -> list[tuple[str, str]]:
         "final")
     add("peak", at(figs.peak), "peak")
     add("minimum", at(figs.minimum), "minimum")
-    if figs.extreme_tolerance is not None and (figs.peak is not None
-                                               or figs.minimum is not None):
-        searched = f"; {figs.reasons['extremes']}" if "extremes" in figs.reasons else ""
-        add("extremes", f"each at the first time reached, within {figs.extreme_tolerance:.0e}"
-            f" of the largest |x|{searched}")
+    if "extremes" in figs.reasons:
+        add("extremes", figs.reasons["extremes"])
     if figs.peak_g is not None or figs.minimum_g is not None:
         add("peak in g", f"{figs.peak_g:.3g} g / minimum {figs.minimum_g:.3g} g"
             if figs.peak_g is not None and figs.minimum_g is not None else None)
@@ -475,6 +472,11 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
         chosen = f" (chosen by the tool: {rule})" if analysis.window_chosen and rule else ""
         out.extend(_wrap("", f"Window {engineering(analysis.start, 's')} to "
                          f"{engineering(analysis.stop, 's')}{chosen}"))
+        tolerances = {r.figures.extreme_tolerance for r in analysis.results
+                      if r.figures is not None and r.figures.extreme_tolerance is not None}
+        if tolerances:
+            out.extend(_wrap("", "Peak and minimum: each at the first time reached, within "
+                             f"{max(tolerances):.0e} of the largest |x| of the quantity"))
         for note in analysis.notes:
             out.extend(_wrap("  note: ", note))
         for result in analysis.results:
