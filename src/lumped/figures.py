@@ -27,12 +27,25 @@ Definitions (used consistently everywhere in this module)
     into the band; the window start (0 for a window from 0) if the response
     never leaves the band within the window.
 
+``peak``, ``minimum``
+    The largest and smallest values over the window, each at the first time
+    the response comes within ``EXTREME_TOLERANCE`` of its largest ``|x|``
+    of that value (an undamped ring reports its first crest).
+
+Which of the change figures apply is decided in one place,
+:func:`_response_shape`: rise time, overshoot and undershoot belong to a
+step-like change, settling time to any change toward a final value; where a
+figure does not apply, ``Figures.reasons`` says why.
+
 Time-domain figures are measured over the window ``[start, stop]``; the
 initial value, final value and mode figures do not depend on the window.
 Extremes and crossings are located on a grid adapted to the response's
 time scales (uniform, geometric after every switching instant, and dense
-enough for the fastest ringing) and then refined on the closed form with
-Brent's method, on the derivative for extremes.
+enough for the fastest ringing) and then refined on the closed form:
+stationary points by bisection on the derivative over all brackets at once,
+crossings by false position.  Once the transient has died out, a response
+made of sinusoids with a common period repeats, so extremes are searched
+over the transient and one period, however long the window.
 """
 
 from __future__ import annotations
