@@ -283,3 +283,20 @@ def test_energy_over_a_long_ringing_window():
     x = sympy.exp(-t) + sympy.cos(w * t)
     exact = sympy.integrate(sympy.expand(x**2), (t, 0, sympy.Float(stop, 30)))
     assert energy_dissipated(response, 1.0, 0.0, stop) == pytest.approx(float(exact), rel=1e-9)
+
+
+def test_free_masses_window_ignores_the_conserved_momentum():
+    # Two free 1 kg masses, 100 N/m and 2 N*s/m between them, pushed by 1 N: the common
+    # motion has poles at s = 0 (momentum, no time scale); the relative motion has
+    # reduced mass 1/2, so s^2 + 4 s + 200 and sigma = -2, tau = 0.5 s (second-order
+    # factor, from memory).  Six time constants: 3 s.
+    text = ("force source F at m1 step 1 N\nmass m1 1 kg\nmass m2 1 kg\n"
+            "spring K from m1 to m2 100 N/m\ndamper D from m1 to m2 2 N*s/m\n"
+            "watch velocity of m2, displacement of m1\n")
+    analysis = analyse(loads(text))
+    assert analysis.stop == pytest.approx(3.0, rel=1e-9)
+    assert "time constant (500 ms)" in analysis.window_rule
+    assert all(r.figures.shape == "growth" for r in analysis.results)
+    # velocity of m2 = t/2 - (1/28) e^{-2t} sin(14 t) (partial fractions by hand)
+    line = _text_row(render(analysis), "x(t) =")
+    assert "(-" not in line and "0.5*t" in line

@@ -167,8 +167,8 @@ def _network_pole_test(solution: Solution):
     return own
 
 
-# The automatic window: the transients settling (several of the network's slowest decaying
-# time constants) plus a few periods of what goes on for ever (common practice, no source).
+# The automatic window: the transients settling (several of the slowest decaying time
+# constants) plus a few periods of what goes on for ever (common practice, no source).
 _WINDOW_TIME_CONSTANTS = 6
 _WINDOW_PERIODS = 3
 _WINDOW_GROWTH_TIMES = 5
@@ -194,7 +194,8 @@ def _default_window(times: list[TimeResponse],
     counts as on it, never as an enormous time constant.  Growing modes add a
     few growth times.  Everything starts after the last switching instant.
     """
-    tau = growth = 0.0
+    tau = 0.0
+    growth = math.inf
     periods: list[float] = []
     delays = [0.0]
     for time in times:
@@ -209,7 +210,7 @@ def _default_window(times: list[TimeResponse],
             if abs(pole.real) <= _AXIS_TOL * size:
                 periods.append(2 * math.pi / abs(pole.imag))
             elif pole.real > 0:
-                growth = max(growth, 1 / pole.real)
+                growth = min(growth, 1 / pole.real)
             else:
                 tau = max(tau, -1 / pole.real)
     for element in netlist.elements:
@@ -225,7 +226,7 @@ def _default_window(times: list[TimeResponse],
         parts.append(_WINDOW_PERIODS * max(periods))
         rules.append(f"{_WINDOW_PERIODS} periods of the slowest sustained oscillation "
                      f"({_seconds(max(periods))} each)")
-    if growth > 0:
+    if math.isfinite(growth):
         parts.append(_WINDOW_GROWTH_TIMES * growth)
         rules.append(f"{_WINDOW_GROWTH_TIMES} growth times of the fastest-growing mode "
                      f"({_seconds(growth)})")
@@ -277,7 +278,6 @@ def analyse(netlist: m.Netlist) -> Analysis:
                             "(the denominator is above second order in s)")
     window_chosen = netlist.window is None or not (
         netlist.window.start.is_number and netlist.window.stop.is_number)
-    own_pole = _network_pole_test(solution)
     window_rule = ""
     if window_chosen:
         start, stop, window_rule = _default_window([t for t in times if t is not None],
@@ -285,6 +285,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
     band = float(netlist.settling_band)
+    own_pole = _network_pole_test(solution)
     results = []
     for quantity, response, time, problem in zip(quantities, responses, times, problems,
                                                  strict=True):

@@ -272,7 +272,7 @@ def _modes_text(time) -> tuple[str, int]:
                 if not parts:
                     continue
                 inner = " + ".join(parts).replace("+ -", "- ")
-                body = [f"({inner})" if len(parts) > 1 or growth or power else inner]
+                body = [f"({inner})" if len(parts) > 1 else inner]
                 text = "*".join(body + growth + power)
             else:
                 text = _scaled(c.real, growth + power)
