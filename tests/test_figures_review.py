@@ -144,6 +144,27 @@ def test_even_quartic_poles_certified_on_the_axis():
         assert float(expr.subs(response.t, instant)) == pytest.approx(reference, rel=1e-10)
 
 
+def test_axis_roots_certified_even_from_loose_enclosures(monkeypatch):
+    # Enclosures that straddle the axis with a midpoint off it (as a lower-precision
+    # isolation could return) are certified onto it: s^4 + 3 s^2 + 1 is even and
+    # u^2 + 3 u + 1 has two negative roots (quadratic formula, from memory).
+    from flint import acb, arb
+
+    import lumped.inversion as inversion
+
+    original = inversion._certified_roots
+
+    def loose(coefficients, bits):
+        return tuple(acb(arb(1e-35, 1e-30), r.imag) if r.real.contains(0) else r
+                     for r in original(coefficients, bits))
+
+    monkeypatch.setattr(inversion, "_certified_roots", loose)
+    response = invert(1 / (s**4 + 3 * s**2 + 1), s)
+    assert [mode.pole.real for mode in response.modes] == [0.0, 0.0]
+    # s^4 + 1 is even too, but u^2 + 1 has no negative root: nothing is moved
+    assert all(abs(m.pole.real) > 0.7 for m in invert(1 / (s**4 + 1), s).modes)
+
+
 def test_even_sextic_mixes_axis_and_off_axis_roots():
     # s^6 + s^2 + 1 = q(s^2), q(u) = u^3 + u + 1 irreducible with one real root u0 < 0
     # (Cardano, from memory): s = ±j sqrt(-u0) on the axis, the other four off it.
