@@ -321,3 +321,17 @@ def test_free_masses_window_ignores_the_conserved_momentum():
     # velocity of m2 = t/2 - (1/28) e^{-2t} sin(14 t) (partial fractions by hand)
     line = _text_row(render(analysis), "x(t) =")
     assert "x(t) = 0.5*t - 0.03571*sin(14*t)*exp(-2*t)" in line
+
+
+def test_requirement_on_a_figure_that_does_not_apply_says_why():
+    # an R-C discharge from 5 V: v = 5 e^{-t/RC} (common practice) is a decay
+    text = ("capacitor C at a 1 uF initially 5 V\nresistor R at a 1 kohm\n"
+            "watch voltage at a\nwindow 10 ms\n"
+            "require rise time of voltage at a below 1 ms\n")
+    analysis = analyse(loads(text))
+    figs = analysis.results[0].figures
+    assert figs.shape == "decay" and figs.time_constant == pytest.approx(1e-3, rel=1e-12)
+    verdict = analysis.verdicts[0]
+    assert verdict.passed is None and figs.reasons["rise_time"] in verdict.reason
+    document = json.loads(to_json(analysis))
+    assert document["requirements"][0]["reason"] == verdict.reason
