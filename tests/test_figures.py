@@ -104,7 +104,7 @@ def test_integrator_has_no_final_value():
     assert "grows without bound" in figs.reasons["final"]
     for name in ("overshoot", "rise_time", "settling_time"):
         assert getattr(figs, name) is None
-        assert figs.reasons[name] == "no final value"
+        assert figs.reasons[name].startswith("no final value")
     assert figs.peak == Extremum(pytest.approx(5.0, rel=1e-12), 5.0)
 
 

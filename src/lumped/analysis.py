@@ -20,6 +20,7 @@ True
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 
@@ -99,6 +100,7 @@ class Analysis:
     stored_energy: float | None = None  # joules at t = 0
     drops: tuple[DropResult, ...] = ()
     window_chosen: bool = False
+    window_rule: str = ""  # how the tool chose the window, when it did
 
     @property
     def passed(self) -> bool:
@@ -155,6 +157,7 @@ def _network_pole_test(solution: Solution):
     coefficients = [mpmath.mpf(int(c.p)) / int(c.q) for c in
                     (sympy.Rational(x) for x in den.all_coeffs())]
 
+    @functools.lru_cache(maxsize=4096)  # every response of the network asks about the same poles
     def own(pole: complex) -> bool:
         with mpmath.workdps(40):
             z = mpmath.mpc(pole.real, pole.imag)
@@ -165,28 +168,77 @@ def _network_pole_test(solution: Solution):
     return own
 
 
-def _default_window(times: list[TimeResponse], netlist: m.Netlist) -> tuple[float, float]:
-    slowest = 0.0
+# The automatic window: the transients settling (several of the slowest decaying time
+# constants) plus a few periods of what goes on for ever (common practice, no source).
+_WINDOW_TIME_CONSTANTS = 6
+_WINDOW_PERIODS = 3
+_WINDOW_GROWTH_TIMES = 5
+_AXIS_TOL = 1e-10  # |Re p| below this times |p| is a sustained oscillation, as in figures.py
+
+
+def _seconds(value: float) -> str:
+    """A time for a sentence, with an SI prefix (3 significant figures)."""
+    for factor, prefix in ((1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"), (1e-12, "p")):
+        if value >= factor * 0.9995:
+            return f"{value / factor:.3g} {prefix}s"
+    return f"{value:.3g} s"
+
+
+def _default_window(times: list[TimeResponse],
+                    netlist: m.Netlist) -> tuple[float, float, str]:
+    """The window a reader wants when the netlist gives none, and the rule that chose it.
+
+    The slowest decaying pole sets the settling part (the network's or a
+    source's: both must have died out).  Poles on the imaginary axis, the
+    network's or a source's, add a few periods; a pole at 0 (a conserved charge
+    or momentum, a constant) adds nothing; a pole within rounding of the axis
+    counts as on it, never as an enormous time constant.  Growing modes add a
+    few growth times.  Everything starts after the last switching instant.
+    """
+    tau = 0.0
+    growth = math.inf
+    periods: list[float] = []
     delays = [0.0]
-    ringing = []
     for time in times:
         for mode in time.modes:
+            if not any(c != 0 for c in mode.coefficients):
+                continue
             delays.append(float(mode.delay))
-            if mode.time_constant is not None and math.isfinite(mode.time_constant):
-                slowest = max(slowest, mode.time_constant)
-            if mode.ringing_frequency and mode.ringing_frequency > 0:
-                ringing.append(2 * math.pi / mode.ringing_frequency)
+            pole = complex(mode.pole)
+            size = abs(pole)
+            if size == 0:
+                continue  # a constant or a conserved quantity: no time scale
+            if abs(pole.real) <= _AXIS_TOL * size:
+                periods.append(2 * math.pi / abs(pole.imag))
+            elif pole.real > 0:
+                growth = min(growth, 1 / pole.real)
+            else:
+                tau = max(tau, -1 / pole.real)
     for element in netlist.elements:
         for term in element.waveform.terms if element.waveform else ():
             if term.delay.is_number:
                 delays.append(float(term.delay))
-    if slowest > 0:
-        span = 6 * slowest
-    elif ringing:
-        span = 10 * max(ringing)
-    else:
-        span = 1.0
-    return 0.0, max(delays) + span
+    parts, rules = [], []
+    if tau > 0:
+        parts.append(_WINDOW_TIME_CONSTANTS * tau)
+        rules.append(f"{_WINDOW_TIME_CONSTANTS} times the slowest decaying time constant "
+                     f"({_seconds(tau)})")
+    if periods:
+        parts.append(_WINDOW_PERIODS * max(periods))
+        rules.append(f"{_WINDOW_PERIODS} periods of the slowest sustained oscillation "
+                     f"({_seconds(max(periods))} each)")
+    if math.isfinite(growth):
+        parts.append(_WINDOW_GROWTH_TIMES * growth)
+        rules.append(f"{_WINDOW_GROWTH_TIMES} growth times of the fastest-growing mode "
+                     f"({_seconds(growth)})")
+    if not parts:
+        parts.append(1.0)
+        rules.append("1 s (the response has no time scale of its own)")
+    last = max(delays)
+    rule = " plus ".join(rules)
+    if last > 0:
+        rule = f"the last switching instant ({_seconds(last)}) plus " + rule
+    return 0.0, last + sum(parts), rule
 
 
 def _quantities(netlist: m.Netlist) -> list[m.Quantity]:
@@ -227,8 +279,10 @@ def analyse(netlist: m.Netlist) -> Analysis:
                             "(the denominator is above second order in s)")
     window_chosen = netlist.window is None or not (
         netlist.window.start.is_number and netlist.window.stop.is_number)
+    window_rule = ""
     if window_chosen:
-        start, stop = _default_window([t for t in times if t is not None], netlist)
+        start, stop, window_rule = _default_window([t for t in times if t is not None],
+                                                   netlist)
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
     band = float(netlist.settling_band)
@@ -270,6 +324,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
         drops=tuple(drops),
         stored_energy=stored,
         window_chosen=window_chosen,
+        window_rule=window_rule,
     )
 
 

@@ -27,12 +27,25 @@ Definitions (used consistently everywhere in this module)
     into the band; the window start (0 for a window from 0) if the response
     never leaves the band within the window.
 
+``peak``, ``minimum``
+    The largest and smallest values over the window, each at the first time
+    the response comes within ``EXTREME_TOLERANCE`` of its largest ``|x|``
+    of that value (an undamped ring reports its first crest).
+
+Which of the change figures apply is decided in one place,
+:func:`_response_shape`: rise time, overshoot and undershoot belong to a
+step-like change, settling time to any change toward a final value; where a
+figure does not apply, ``Figures.reasons`` says why.
+
 Time-domain figures are measured over the window ``[start, stop]``; the
 initial value, final value and mode figures do not depend on the window.
 Extremes and crossings are located on a grid adapted to the response's
 time scales (uniform, geometric after every switching instant, and dense
-enough for the fastest ringing) and then refined on the closed form with
-Brent's method, on the derivative for extremes.
+enough for the fastest ringing) and then refined on the closed form:
+stationary points by bisection on the derivative over all brackets at once,
+crossings by false position.  Once the transient has died out, a response
+made of sinusoids with a common period repeats, so extremes are searched
+over the transient and one period, however long the window.
 """
 
 from __future__ import annotations
@@ -41,6 +54,7 @@ import itertools
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from fractions import Fraction
 from typing import Any, Protocol
 
 import numpy as np
@@ -61,6 +75,11 @@ _GEOMETRIC_POINTS = 400  # geometric points after every switching instant
 _POINTS_PER_PERIOD = 24  # grid density for oscillating modes
 _MAX_POINTS = 400000  # cap on the grid size, to bound the cost
 _LIVE_DECAYS = 40.0  # a mode is negligible after e^-40 of its start value
+# Extremes that differ by less than this fraction of the largest |x| count as the same
+# value; the report gives the first time such a value is reached.
+EXTREME_TOLERANCE = 1e-9
+_MAX_SEARCH_PERIODS = 200  # periods searched when sustained frequencies never line up
+_STEP_SWING = 0.05  # a change below this fraction of the swing is not a step-like change
 
 
 class ModeLike(Protocol):
@@ -146,7 +165,18 @@ class Figures:
     max_travel
         Largest ``|x|``, for a displacement or an angle.
     reasons
-        Field name (or ``"impulses"``, ``"grid"``) to an explanation.
+        Field name (or ``"impulses"``, ``"grid"``, ``"extremes"``) to an
+        explanation; every figure that does not apply has one here.
+    shape
+        What the response does, by the one rule that decides which figures
+        apply: ``"step"`` (a step-like change: rise time, overshoot,
+        undershoot and settling), ``"decay"`` (back toward zero or where it
+        started: settling only), ``"oscillation"`` (sustained) or
+        ``"growth"`` (unbounded), or ``"constant"``; the mode figures (time constant, pair,
+        ringing) describe the network and apply whenever such modes exist.
+    extreme_tolerance
+        Peak and minimum are the first instants at which the response comes
+        within this fraction of its largest ``|x|`` of its extreme value.
 
     Examples
     --------
@@ -183,6 +213,8 @@ class Figures:
     magnitude_g: float | None = None
     max_travel: float | None = None
     reasons: dict[str, str] = field(default_factory=dict)
+    shape: str | None = None
+    extreme_tolerance: float | None = None
 
 
 @dataclass(frozen=True)
@@ -270,14 +302,28 @@ class _ClosedForm:
         return self._matrices[derivative]
 
     def __call__(self, time: float, derivative: int = 0) -> float:
-        tau = time - self.delays
-        on = tau >= 0
-        if not on.any():
-            return 0.0
-        tau = tau[on]
-        powers = tau[:, None] ** np.arange(self._factorials.size) / self._factorials
-        terms = (self._matrix(derivative)[on] * powers).sum(axis=1) * np.exp(self.poles[on] * tau)
-        return float(terms.real.sum())
+        return float(self.at(np.array([float(time)]), derivative)[0])
+
+    def at(self, times: np.ndarray, derivative: int = 0) -> np.ndarray:
+        """The response (or a derivative) at many instants, in one array operation."""
+        times = np.asarray(times, dtype=float).ravel()
+        out = np.zeros(times.size)
+        if self.poles.size == 0:
+            return out
+        matrix = self._matrix(derivative)
+        chunk = max(1, (1 << 18) // max(1, self.poles.size))  # bound the (n, M) temporaries
+        for lo in range(0, times.size, chunk):
+            tau = times[lo : lo + chunk, None] - self.delays[None, :]
+            on = tau >= 0
+            tau = np.where(on, tau, 0.0)
+            # Horner in tau: c_0 + tau (c_1 + tau/2 (c_2 + ...)) gives sum c_k tau^k/k!
+            poly = np.broadcast_to(matrix[None, :, -1], tau.shape).astype(complex)
+            for k in range(matrix.shape[1] - 2, -1, -1):
+                poly = poly * (tau / (k + 1)) + matrix[None, :, k]
+            with np.errstate(over="ignore", invalid="ignore"):
+                terms = np.where(on, poly * np.exp(self.poles[None, :] * tau), 0.0)
+            out[lo : lo + chunk] = terms.real.sum(axis=1)
+        return out
 
 
 # ----------------------------------------------------------------------------
@@ -378,6 +424,126 @@ def _final_value(modes: Sequence[ModeLike]) -> tuple[float | None, str]:
     return value, ""
 
 
+def _sustained(modes: Sequence[ModeLike]) -> tuple[bool, list[float]]:
+    """Whether the response grows without bound, and the frequencies that never die out."""
+    omegas = []
+    grows = False
+    for pole, _pair, coeffs in _late_groups(modes):
+        on_axis = abs(pole.real) <= _AXIS_TOL * abs(pole)
+        if len(coeffs) >= 2 or not on_axis:
+            grows = True  # a repeated pole on the axis or one in the right half-plane
+        elif pole != 0:
+            omegas.append(abs(pole.imag))
+    return grows, omegas
+
+
+def _common_period(omegas: Sequence[float]) -> float | None:
+    """The period of a sum of sinusoids, or None when the frequencies never line up.
+
+    Ratios to the slowest frequency are matched to fractions with small
+    denominators; two sources at 50 Hz and 150 Hz repeat every 20 ms, a
+    network's own 1.23 kHz ringing beside a 1 kHz source does not repeat soon.
+    """
+    slowest = min(omegas)
+    common = 1
+    for omega in omegas:
+        ratio = omega / slowest
+        fraction = Fraction(ratio).limit_denominator(16)
+        if abs(ratio - float(fraction)) > 1e-9 * ratio:
+            return None
+        common = math.lcm(common, fraction.denominator)
+    return 2 * math.pi * common / slowest
+
+
+def _periodic_tail(
+    modes: Sequence[ModeLike], start: float
+) -> tuple[float, float | None, list[float]]:
+    """When the response becomes a constant plus sinusoids, their period, their frequencies.
+
+    ``quiet`` is after every switching instant and after every decaying mode
+    has fallen to e^-40 of its start.  The frequencies are empty when nothing
+    oscillates for ever or something grows; the period is None when the
+    frequencies have no common period.
+    """
+    active = [m for m in modes if _active(m)]
+    grows, omegas = _sustained(active)
+    if grows or not omegas:
+        return math.inf, None, []
+    quiet = max([start] + [float(m.delay) for m in active])
+    for mode in active:
+        pole = complex(mode.pole)
+        if pole.real < -_AXIS_TOL * abs(pole):
+            quiet = max(quiet, float(mode.delay) + _LIVE_DECAYS / -pole.real)
+    return quiet, _common_period(omegas), omegas
+
+
+def _search_stop(modes: Sequence[ModeLike], start: float, stop: float) -> tuple[float, str]:
+    """Where the search for extremes can end without missing a new value.
+
+    Once every decaying mode has died out (e^-40 of its start) and every
+    source has switched, a response made of a constant and sinusoids with a
+    common period repeats every period: its extremes after that time are
+    those of one period, reached first within it.  So the search covers the
+    transient plus one period, however many periods the window holds.
+    Frequencies without a common period are searched over a fixed number of
+    periods, and the reason says so.
+    """
+    quiet, period, omegas = _periodic_tail(modes, start)
+    if not omegas:
+        return stop, ""
+    if period is not None:
+        end = quiet + 1.01 * period  # a hair over one period: both ends of it are seen
+        return (end, "") if end < stop else (stop, "")
+    end = quiet + _MAX_SEARCH_PERIODS * 2 * math.pi / min(omegas)
+    if end >= stop:
+        return stop, ""
+    return end, (
+        f"the sustained oscillation mixes frequencies without a common period; extremes "
+        f"were searched up to t = {_fmt(end)} s ({_MAX_SEARCH_PERIODS} periods of the "
+        "slowest after the transient), later values may come closer to the sum of the "
+        "amplitudes"
+    )
+
+
+def _response_shape(
+    final: float | None,
+    initial: float,
+    grows: bool,
+    high: float,
+    low: float,
+) -> tuple[str, str]:
+    """The one rule that says which figures apply: the shape and, if not a step, why.
+
+    ``step``: a step-like change from the initial to a different final value
+    (rise time, overshoot, undershoot and settling apply).  ``decay``: the
+    response returns toward zero or toward where it started (a discharge, a
+    pulse, a dropped body's acceleration; settling applies when there is a
+    change, rise time and overshoot do not).  ``oscillation``: it never
+    settles, ``growth``: it grows without bound (no final value, so none of
+    the change figures apply).  ``constant``: nothing changes.  ``high`` and
+    ``low`` bound the response over the window.
+    """
+    if final is None:
+        if grows:
+            return "growth", "no final value: the response grows without bound"
+        return "oscillation", "no final value: the response is a sustained oscillation"
+    change = final - initial
+    swing = max(high, initial, final) - min(low, initial, final)
+    scale = max(abs(initial), abs(final), swing)
+    if scale == 0 or swing <= 1e-12 * scale:
+        return "constant", "the response is constant (no change to measure against)"
+    if abs(change) <= 1e-9 * scale:
+        return "decay", ("the response returns to where it started (no change to measure "
+                         "against: a decay or pulse, not a step-like change)")
+    if abs(final) <= 1e-9 * scale:
+        return "decay", ("the response decays toward zero (a decay, not a step-like "
+                         "change)")
+    if abs(change) < _STEP_SWING * swing:
+        return "decay", (f"the response ends within {_STEP_SWING * 100:g} % of its swing "
+                         "from where it started (a decay or pulse, not a step-like change)")
+    return "step", ""
+
+
 def _initial_value(modes: Sequence[ModeLike]) -> float:
     """x(0+): the constant coefficients of the modes switched on at t = 0."""
     total = 0.0
@@ -441,6 +607,9 @@ class _Sampler:
         self.dx = dx_all[order][unique]
         segment = np.searchsorted(np.array(breaks), self.t, side="right") - 1
         self.seg = np.minimum(segment, len(breaks) - 2)
+        # first and last sample of every segment: window ends and one-sided limits at jumps
+        edges = np.nonzero(np.diff(self.seg) != 0)[0]
+        self._ends = np.unique(np.concatenate(([0, self.t.size - 1], edges, edges + 1)))
         self._cache: dict[int, float] = {}
 
     def _segment_parts(
@@ -492,11 +661,15 @@ class _Sampler:
         xtol = max((b - a) * 1e-14, abs(b) * 4e-16, 1e-300)
         return _bracketed_root(func, a, b, fa, fb, xtol)
 
-    def stationary(self, i: int) -> float:
-        """The root of the derivative between grid points i and i+1."""
-        if i not in self._cache:
-            self._cache[i] = self.root(lambda t: self.value(t, 1), self.t[i], self.t[i + 1])
-        return self._cache[i]
+    def stationaries(self, idx: np.ndarray) -> np.ndarray:
+        """The roots of the derivative between grid points i and i+1, for every i at once."""
+        idx = np.asarray(idx, dtype=np.intp)
+        todo = np.array([i for i in dict.fromkeys(idx.tolist()) if i not in self._cache],
+                        dtype=np.intp)
+        if todo.size:
+            roots = _bisect_all(lambda u: self.closed.at(u, 1), self.t[todo], self.t[todo + 1])
+            self._cache.update(zip(todo.tolist(), roots.tolist(), strict=True))
+        return np.array([self._cache[i] for i in idx.tolist()], dtype=float)
 
     def brackets(self) -> np.ndarray:
         """Indices i where the derivative changes sign inside a segment."""
@@ -504,32 +677,39 @@ class _Sampler:
         change = self.dx[:-1] * self.dx[1:] < 0
         return np.nonzero(same & change)[0]
 
-    def extremum(self, sign: float) -> Extremum:
-        """Largest value of ``sign * x`` over the window (sign = +1 or -1).
+    def extremum(self, sign: float, tolerance: float) -> Extremum:
+        """Largest value of ``sign * x`` over the window (sign = +1 or -1), first reached.
 
-        The grid's best sample is a lower bound.  Each bracket holding a
-        local maximum can exceed its samples by about ``slope * step / 2``;
-        only brackets whose bound beats the best value so far are refined,
-        most promising first.
+        Candidates are the window's ends, the one-sided limits at switching
+        instants and the stationary points.  A bracket of a local maximum can
+        exceed its samples by about ``slope * step``; every bracket whose bound
+        comes within ``tolerance`` of the best sample is refined (all at
+        once), and the earliest candidate within ``tolerance`` of the largest
+        value is reported, so an undamped ring reports its first crest.
         """
         y = sign * self.x
         best = int(np.argmax(y))
-        best_value, best_time = float(y[best]), float(self.t_report[best])
-        idx = self.brackets()
+        best_value = float(y[best])
         slope = sign * self.dx
-        idx = idx[(slope[idx] > 0) & (slope[idx + 1] < 0)]  # local maxima of y
+        same = self.seg[:-1] == self.seg[1:]
+        idx = np.nonzero(same & (slope[:-1] > 0) & (slope[1:] <= 0))[0]  # local maxima of y
+        times = [self.t_report[self._ends]]
+        values = [y[self._ends]]
         if idx.size:
             step = self.t[idx + 1] - self.t[idx]
             # generous bound: twice the excess a linear slope would allow
             bound = np.minimum(y[idx] + slope[idx] * step, y[idx + 1] - slope[idx + 1] * step)
-            for k in np.argsort(-bound):
-                if bound[k] < best_value:
-                    break
-                root = self.stationary(int(idx[k]))
-                value = sign * self.value(root)
-                if value > best_value:
-                    best_value, best_time = value, root
-        return Extremum(value=sign * best_value, time=best_time)
+            idx = idx[bound >= best_value - tolerance]
+            roots = self.stationaries(idx)
+            times.append(roots)
+            values.append(sign * self.closed.at(roots))
+        cand_t, cand_v = np.concatenate(times), np.concatenate(values)
+        top = max(float(np.max(cand_v)), best_value)
+        close = np.nonzero(cand_v >= top - tolerance)[0]
+        if close.size == 0:  # only the grid saw it: keep the sample
+            return Extremum(value=sign * best_value, time=float(self.t_report[best]))
+        first = close[np.argmin(cand_t[close])]
+        return Extremum(value=sign * float(cand_v[first]), time=float(cand_t[first]))
 
     def first_reach(self, level: float, direction: float) -> tuple[float | None, bool]:
         """First time ``direction * (x - level) >= 0``; also whether at the start."""
@@ -559,13 +739,40 @@ class _Sampler:
         exit_time, entry_hi = float(self.t[last]), float(self.t[last + 1])
         idx = self.brackets()
         idx = idx[idx >= last]
-        near = np.maximum(e[idx], e[idx + 1]) > -0.25 * half_width
-        for i in idx[near]:
-            root = self.stationary(int(i))
-            if abs(self.value(root) - final) - half_width > 0 and root > exit_time:
-                exit_time, entry_hi = root, float(self.t[i + 1])
+        idx = idx[np.maximum(e[idx], e[idx + 1]) > -0.25 * half_width]
+        roots = self.stationaries(idx)
+        outside_band = np.abs(self.closed.at(roots) - final) - half_width > 0
+        late = np.nonzero(outside_band & (roots > exit_time))[0]
+        if late.size:
+            k = late[np.argmax(roots[late])]
+            exit_time, entry_hi = float(roots[k]), float(self.t[idx[k] + 1])
         t = self.root(lambda u: abs(self.value(u) - final) - half_width, exit_time, entry_hi)
         return t, ""
+
+
+def _bisect_all(
+    func: Callable[[np.ndarray], np.ndarray], a: np.ndarray, b: np.ndarray
+) -> np.ndarray:
+    """Bisection on many sign-changing brackets at once, to a few ulps of the times.
+
+    One call of ``func`` per halving serves every bracket still open, so a
+    window holding thousands of extremes costs a few dozen array evaluations.
+    A bracket whose ends do not differ in sign (a root within rounding of a
+    grid point) gives the end nearer zero.
+    """
+    a, b = np.array(a, dtype=float), np.array(b, dtype=float)
+    fa, fb = func(a), func(b)
+    for _ in range(120):
+        xtol = np.maximum(np.maximum(np.abs(a), np.abs(b)) * 4e-16, 1e-300)
+        open_ = np.nonzero((b - a > xtol) & (fa != 0) & (fb != 0) & ((fa > 0) != (fb > 0)))[0]
+        if open_.size == 0:
+            break
+        middle = 0.5 * (a[open_] + b[open_])
+        fm = func(middle)
+        right = (fm > 0) == (fa[open_] > 0)  # the sign change lies in [middle, b]
+        a[open_[right]], fa[open_[right]] = middle[right], fm[right]
+        b[open_[~right]], fb[open_[~right]] = middle[~right], fm[~right]
+    return np.where(np.abs(fa) <= np.abs(fb), a, b)
 
 
 def _bracketed_root(
@@ -663,7 +870,10 @@ def compute_figures(
     reasons: dict[str, str] = {}
     modes = tuple(response.modes)
     impulses = tuple(response.impulses)
-    sampler = _Sampler(response, start, stop)
+    search_stop, search_note = _search_stop(modes, start, stop)
+    if search_note:
+        reasons["extremes"] = search_note
+    sampler = _Sampler(response, start, search_stop)
     if sampler.capped:
         reasons["grid"] = (
             "the ringing is too fast to resolve fully over this window; "
@@ -677,7 +887,9 @@ def compute_figures(
     change = None if final is None else final - initial
 
     # Extremes of the smooth part; impulses inside the window make them unbounded.
-    peak, minimum = sampler.extremum(1.0), sampler.extremum(-1.0)
+    finite = sampler.x[np.isfinite(sampler.x)]
+    tolerance = EXTREME_TOLERANCE * (float(np.max(np.abs(finite))) if finite.size else 0.0)
+    peak, minimum = sampler.extremum(1.0, tolerance), sampler.extremum(-1.0, tolerance)
     inside = [imp for imp in impulses if start <= _real(imp.delay) <= stop]
     peak_unbounded = any(imp.order > 0 or _real(imp.weight) > 0 for imp in inside)
     minimum_unbounded = any(imp.order > 0 or _real(imp.weight) < 0 for imp in inside)
@@ -710,41 +922,49 @@ def compute_figures(
 
     overshoot = undershoot = rise_time = settling_time = None
     rise_crossings = None
+    grows, _ = _sustained([m for m in modes if _active(m)])
+    shape, not_step = _response_shape(final, initial, grows, peak.value, minimum.value)
+    step_figures = ("overshoot", "undershoot", "rise_time")
     if change is None:
-        for name in ("overshoot", "undershoot", "rise_time", "settling_time"):
-            reasons[name] = "no final value"
+        for name in (*step_figures, "settling_time"):
+            reasons[name] = not_step
     elif change == 0.0 or abs(change) <= 1e-12 * max(abs(initial), abs(final or 0.0)):
-        for name in ("overshoot", "undershoot", "rise_time", "settling_time"):
-            reasons[name] = (
-                "the final value equals the initial value (no change to measure against)"
-            )
+        for name in step_figures:
+            reasons[name] = not_step
+        reasons["settling_time"] = (
+            "the final value equals the initial value (no change to measure against)"
+        )
     else:
         assert final is not None
         direction = 1.0 if change > 0 else -1.0
-        ahead_unbounded = peak_unbounded if direction > 0 else minimum_unbounded
-        behind_unbounded = minimum_unbounded if direction > 0 else peak_unbounded
-        ahead = peak.value if direction > 0 else minimum.value
-        behind = minimum.value if direction > 0 else peak.value
-        if ahead_unbounded:
-            reasons["overshoot"] = "unbounded: the response contains an impulse"
+        if shape != "step":
+            for name in step_figures:
+                reasons[name] = not_step
         else:
-            overshoot = max(0.0, (ahead - final) / change)
-        if behind_unbounded:
-            reasons["undershoot"] = "unbounded: the response contains an impulse"
-        else:
-            undershoot = max(0.0, (behind - initial) / -change)
+            ahead_unbounded = peak_unbounded if direction > 0 else minimum_unbounded
+            behind_unbounded = minimum_unbounded if direction > 0 else peak_unbounded
+            ahead = peak.value if direction > 0 else minimum.value
+            behind = minimum.value if direction > 0 else peak.value
+            if ahead_unbounded:
+                reasons["overshoot"] = "unbounded: the response contains an impulse"
+            else:
+                overshoot = max(0.0, (ahead - final) / change)
+            if behind_unbounded:
+                reasons["undershoot"] = "unbounded: the response contains an impulse"
+            else:
+                undershoot = max(0.0, (behind - initial) / -change)
 
-        t10, at_start10 = sampler.first_reach(initial + 0.1 * change, direction)
-        t90, _ = sampler.first_reach(initial + 0.9 * change, direction)
-        if t10 is None or t90 is None:
-            reasons["rise_time"] = (
-                f"does not reach {'10' if t10 is None else '90'} % of the final change "
-                "within the window"
-            )
-        elif at_start10 and start > 0.0:
-            reasons["rise_time"] = "the 10 % level was already passed at the window start"
-        else:
-            rise_time, rise_crossings = t90 - t10, (t10, t90)
+            t10, at_start10 = sampler.first_reach(initial + 0.1 * change, direction)
+            t90, _ = sampler.first_reach(initial + 0.9 * change, direction)
+            if t10 is None or t90 is None:
+                reasons["rise_time"] = (
+                    f"does not reach {'10' if t10 is None else '90'} % of the final change "
+                    "within the window"
+                )
+            elif at_start10 and start > 0.0:
+                reasons["rise_time"] = "the 10 % level was already passed at the window start"
+            else:
+                rise_time, rise_crossings = t90 - t10, (t10, t90)
 
         settling_time, how = sampler.settling(final, band * abs(change))
         if settling_time is None:
@@ -767,7 +987,7 @@ def compute_figures(
     if pairs:
         top = max(pairs, key=lambda p: p.real)
         natural = abs(top)
-        damping = -top.real / natural
+        damping = -top.real / natural + 0.0  # + 0.0: an undamped pair reads 0, never -0
         ringing = abs(top.imag)
         ringing_hz = ringing / (2 * math.pi)
     else:
@@ -812,6 +1032,8 @@ def compute_figures(
         magnitude_g=magnitude_g,
         max_travel=max_travel,
         reasons=reasons,
+        shape=shape,
+        extreme_tolerance=EXTREME_TOLERANCE,
     )
 
 
@@ -873,6 +1095,22 @@ def energy_dissipated(
         raise ValueError(f"the window must satisfy 0 <= start < stop, got {start} .. {stop}")
     if any(start <= _real(imp.delay) <= stop for imp in response.impulses):
         return math.inf
+    # Once only a periodic part is left, every whole period dissipates the same energy:
+    # integrate one and count them, so a long window costs no more than a short one.
+    quiet, period, _ = _periodic_tail(response.modes, start)
+    if period is not None and quiet + 4 * period < stop:
+        whole = int((stop - quiet) // period) - 1
+        middle = quiet + whole * period
+        return (_square_integral(response, coefficient, start, quiet, rtol)
+                + whole * _square_integral(response, coefficient, quiet, quiet + period, rtol)
+                + _square_integral(response, coefficient, middle, stop, rtol))
+    return _square_integral(response, coefficient, start, stop, rtol)
+
+
+def _square_integral(
+    response: ResponseLike, coefficient: float, start: float, stop: float, rtol: float
+) -> float:
+    """coefficient * ∫ x(t)^2 dt over [start, stop] by adaptive Gauss-Legendre quadrature."""
     modes = [m for m in response.modes if _active(m)]
     points = {float(m.delay) for m in modes if start < float(m.delay) < stop}
     for mode in modes:

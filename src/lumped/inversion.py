@@ -147,7 +147,7 @@ class Mode:
         magnitude = abs(self.pole)
         if magnitude == 0:
             return None
-        return -self.pole.real / magnitude
+        return -self.pole.real / magnitude + 0.0  # + 0.0: a pole on the axis gives 0, not -0
 
     @property
     def ringing_frequency(self) -> float:
@@ -905,6 +905,31 @@ def _factor_cached(coefficients: tuple) -> tuple:
     return tuple(factors)
 
 
+def _onto_axis(coefficients: tuple[int, ...], upper: list) -> list:
+    """The upper-half-plane roots, those certified on the imaginary axis made exactly so.
+
+    An irreducible polynomial with a root jw also has the root -jw, so it
+    equals ±p(-s): it is even, p(s) = q(s^2), and its roots on the axis are
+    ±j sqrt(-u) for the negative real roots u of q (real roots of an integer
+    polynomial are isolated exactly).  When the enclosures that touch the axis
+    are exactly as many as those roots, each holds one of them: its real part
+    is zero, not a rounding residue that would print as exp(1e-39 t).
+    """
+    touching = [i for i, r in enumerate(upper) if r.real.contains(0)]
+    if not touching or all(upper[i].real.is_zero() for i in touching):
+        return upper
+    if any(c != 0 for c in coefficients[1::2]):
+        return upper  # not even: no root on the axis
+    even = fmpz_poly(list(coefficients[0::2]))
+    negative = sum(1 for u, _ in even.complex_roots() if u.imag.is_zero() and u.real < 0)
+    if negative != len(touching):
+        return upper
+    certified = list(upper)
+    for i in touching:
+        certified[i] = acb(0, upper[i].imag)
+    return certified
+
+
 def _ball_modes(
     num: fmpq_poly,
     den: fmpq_poly,
@@ -947,6 +972,9 @@ def _ball_modes(
                 if len(real) + 2 * len(upper) != factor.degree():
                     accurate = False  # separation not certified yet: refine
                     break
+                upper = _onto_axis(
+                    tuple(int(c * factor.denom()) for c in factor.coeffs()), upper
+                )
                 for root, is_pair in [(r, False) for r in real] + [(r, True) for r in upper]:
                     n_t = [num_derivs[j](root) / math.factorial(j) for j in range(mult)]
                     d_t = [

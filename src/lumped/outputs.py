@@ -139,6 +139,8 @@ def _figures_json(result) -> dict:
         "peak_g": quantity(figs.peak_g, "g"),
         "minimum_g": quantity(figs.minimum_g, "g"),
         "max_travel": quantity(figs.max_travel, unit),
+        "shape": figs.shape,
+        "extreme_tolerance": quantity(figs.extreme_tolerance, "fraction of the largest |x|"),
         "reasons": dict(figs.reasons),
     }
 
@@ -212,7 +214,8 @@ def to_json(analysis) -> str:
         "tool": f"lumped {__version__}",
         "netlist": analysis.netlist.source,
         "window": {"start": analysis.start, "stop": analysis.stop, "unit": "s",
-                   "chosen_by_tool": analysis.window_chosen},
+                   "chosen_by_tool": analysis.window_chosen,
+                   "rule": getattr(analysis, "window_rule", "") or None},
         "passed": analysis.passed,
         "quantities": quantities,
         "requirements": requirements,
@@ -283,8 +286,13 @@ def _scale(values: np.ndarray, unit: str) -> tuple[float, str]:
     return (factor or 1.0), shown
 
 
+def _identifier(text: str) -> str:
+    """A label as an SVG id: letters, digits and hyphens."""
+    return "".join(c if c.isalnum() else "-" for c in text)
+
+
 def plot(analysis, path: Path, count: int = 2001) -> bytes:
-    """Draw one panel per unit; requirement limits dashed, peak and settling marked."""
+    """Draw one panel per unit; requirement limits dashed, extremes and settling marked."""
     import matplotlib
 
     matplotlib.use("Agg")
@@ -303,9 +311,14 @@ def plot(analysis, path: Path, count: int = 2001) -> bytes:
             line, = axis.plot(times / tfactor, values / factor, label=label, linewidth=1.4)
             result = analysis.result(label)
             figs = result.figures
-            if figs is not None and figs.peak is not None:
-                axis.plot(figs.peak.time / tfactor, figs.peak.value / factor, "v",
-                          color=line.get_color(), markersize=6)
+            # Both extremes, each where it is first reached: peak ▼, minimum ▲.
+            for extremum, marker, name in ((None if figs is None else figs.peak, "v", "peak"),
+                                           (None if figs is None else figs.minimum, "^",
+                                            "minimum")):
+                if extremum is not None:
+                    mark, = axis.plot(extremum.time / tfactor, extremum.value / factor, marker,
+                                      color=line.get_color(), markersize=6)
+                    mark.set_gid(f"{name}-{_identifier(label)}")
             if figs is not None and figs.settling_time:
                 axis.axvline(figs.settling_time / tfactor, color=line.get_color(),
                              linestyle=":", linewidth=1)

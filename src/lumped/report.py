@@ -236,34 +236,57 @@ def _number(value: float) -> str:
     return _ShortFloats().doprint(sympy.Float(value))
 
 
+def _scaled(coefficient: float, factors: list[str]) -> str | None:
+    """``coefficient*f1*f2...`` for reading: None when the coefficient is exactly zero,
+    and no ``1*`` in front of a product."""
+    if coefficient == 0:
+        return None
+    number = _number(coefficient)
+    if not factors:
+        return number
+    body = "*".join(factors)
+    if number in ("1", "-1"):
+        return ("-" if number == "-1" else "") + body
+    return f"{number}*{body}"
+
+
 def _modes_text(time) -> tuple[str, int]:
-    """x(t) for reading, straight from the modes (fast for large networks)."""
+    """x(t) for reading, straight from the modes (fast for large networks).
+
+    Exactly zero coefficients and real parts leave no trace (no ``0*sin``, no
+    ``exp(0*t)``); the inversion stage makes a real part exactly zero only
+    where the pole is certified to lie on the imaginary axis.
+    """
     terms = []
     for mode in time.modes:
         delay = float(mode.delay)
         tau = "t" if delay == 0 else f"(t - {_number(delay)})"
+        pole = mode.pole
+        growth = [f"exp({_number(pole.real)}*{tau})"] if pole.real != 0 else []
         for k, c in enumerate(mode.coefficients):
-            power = "" if k == 0 else (f"*{tau}" if k == 1 else f"*{tau}**{k}/{math.factorial(k)}")
-            pole = mode.pole
+            power = [] if k == 0 else ([tau] if k == 1 else [f"{tau}**{k}/{math.factorial(k)}"])
             if mode.is_pair:
-                a, b = 2 * c.real, -2 * c.imag
                 w = _number(pole.imag)
-                body = f"({_number(a)}*cos({w}*{tau}) + {_number(b)}*sin({w}*{tau}))"
-                body = body.replace("+ -", "- ")
-                if pole.real != 0:
-                    body += f"*exp({_number(pole.real)}*{tau})"
+                parts = [p for p in (_scaled(2 * c.real, [f"cos({w}*{tau})"]),
+                                     _scaled(-2 * c.imag, [f"sin({w}*{tau})"])) if p]
+                if not parts:
+                    continue
+                inner = " + ".join(parts).replace("+ -", "- ")
+                body = [f"({inner})" if len(parts) > 1 else inner]
+                text = "*".join(body + growth + power)
             else:
-                body = _number(c.real)
-                if pole.real != 0:
-                    body += f"*exp({_number(pole.real)}*{tau})"
-            text = body + power
+                text = _scaled(c.real, growth + power)
+                if text is None:
+                    continue
             if delay != 0:
                 text += f"*u(t - {_number(delay)})"
             terms.append(text)
     for impulse in time.impulses:
         name = "δ" if impulse.order == 0 else "δ" + "'" * impulse.order
         at = "t" if impulse.delay == 0 else f"t - {_number(float(impulse.delay))}"
-        terms.append(f"{_number(float(impulse.weight))}*{name}({at})")
+        text = _scaled(float(impulse.weight), [f"{name}({at})"])
+        if text is not None:
+            terms.append(text)
     shown = terms[:_MAX_TERMS]
     text = " + ".join(shown).replace("+ -", "- ") if shown else "0"
     return text, len(terms) - len(shown)
@@ -313,6 +336,8 @@ def _figure_rows(result) -> list[tuple[str, str]]:
         "final")
     add("peak", at(figs.peak), "peak")
     add("minimum", at(figs.minimum), "minimum")
+    if "extremes" in figs.reasons:
+        add("extremes", figs.reasons["extremes"])
     if figs.peak_g is not None or figs.minimum_g is not None:
         add("peak in g", f"{figs.peak_g:.3g} g / minimum {figs.minimum_g:.3g} g"
             if figs.peak_g is not None and figs.minimum_g is not None else None)
@@ -324,16 +349,12 @@ def _figure_rows(result) -> list[tuple[str, str]]:
         # Excursions below a part per billion of the change are rounding, not overshoot.
         return f"{fraction * 100:.3g} %" if abs(fraction) >= 1e-9 else "0 %"
 
-    swing = (figs.peak.value - figs.minimum.value) if figs.peak and figs.minimum else 0.0
-    if figs.change is not None and swing > 0 and abs(figs.change) < 0.05 * swing:
-        # Ending close to where it started (a drop, a pulse): step figures mean nothing.
-        add("overshoot, rise time", "not shown: the response ends within 5 % of its swing "
-            "from where it started, so step figures would mislead")
-    else:
-        add("overshoot", percent(figs.overshoot), "overshoot")
-        add("undershoot", percent(figs.undershoot), "undershoot")
-        add("rise time 10-90 %", engineering(figs.rise_time, "s") if figs.rise_time is not None
-            else None, "rise_time")
+    # Which of these apply is decided once, by the figures stage; a missing one
+    # prints the reason it carries.
+    add("overshoot", percent(figs.overshoot), "overshoot")
+    add("undershoot", percent(figs.undershoot), "undershoot")
+    add("rise time 10-90 %", engineering(figs.rise_time, "s") if figs.rise_time is not None
+        else None, "rise_time")
     add(f"settling ±{figs.band * 100:g} %", engineering(figs.settling_time, "s")
         if figs.settling_time is not None else None, "settling_time")
     add("time constant", engineering(figs.time_constant, "s") if figs.time_constant else None)
@@ -447,9 +468,15 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
     out: list[str] = []
     if not quiet:
         out.append(network_summary(analysis.netlist))
-        chosen = " (chosen from the slowest time constant)" if analysis.window_chosen else ""
-        out.append(f"Window {engineering(analysis.start, 's')} to "
-                   f"{engineering(analysis.stop, 's')}{chosen}")
+        rule = getattr(analysis, "window_rule", "")
+        chosen = f" (chosen by the tool: {rule})" if analysis.window_chosen and rule else ""
+        out.extend(_wrap("", f"Window {engineering(analysis.start, 's')} to "
+                         f"{engineering(analysis.stop, 's')}{chosen}"))
+        tolerances = {r.figures.extreme_tolerance for r in analysis.results
+                      if r.figures is not None and r.figures.extreme_tolerance is not None}
+        if tolerances:
+            out.extend(_wrap("", "Peak and minimum: each at the first time reached, within "
+                             f"{max(tolerances):.0e} of the largest |x| of the quantity"))
         for note in analysis.notes:
             out.extend(_wrap("  note: ", note))
         for result in analysis.results:

@@ -269,9 +269,16 @@ def test_every_figure_against_solve_ivp(name):
     # it sits at a window end, where both agree exactly
     assert figs.peak.time == pytest.approx(ref["peak_time"], abs=3 * h)
     assert figs.minimum.time == pytest.approx(ref["minimum_time"], abs=3 * h)
-    assert figs.overshoot == pytest.approx(ref["overshoot"], abs=1e-8)
-    assert figs.undershoot == pytest.approx(ref["undershoot"], abs=1e-8)
-    assert figs.rise_time == pytest.approx(ref["rise_time"], abs=2 * h)
+    if system["final"] == 0 and initial != 0:
+        # a decay toward zero is not a step-like change: no rise time or overshoot
+        # (the figure definitions in DESIGN.md, common practice)
+        assert figs.shape == "decay"
+        assert figs.overshoot is None and figs.undershoot is None and figs.rise_time is None
+    else:
+        assert figs.shape == "step"
+        assert figs.overshoot == pytest.approx(ref["overshoot"], abs=1e-8)
+        assert figs.undershoot == pytest.approx(ref["undershoot"], abs=1e-8)
+        assert figs.rise_time == pytest.approx(ref["rise_time"], abs=2 * h)
     assert figs.settling_time == pytest.approx(ref["settling_time"], abs=2 * h)
 
     # mode figures against the eigenvalues of the state matrix (numpy)
