@@ -27,6 +27,7 @@ import sympy
 
 from . import model as m
 from .equations import Response, Solution, assemble, s
+from .exact import IRRATIONAL_DIGITS, rationalise  # noqa: F401 - kept importable from here
 from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from .inversion import ParametersNeeded, TimeResponse, invert
 from .topology import validate
@@ -34,9 +35,6 @@ from .units import STANDARD_GRAVITY
 
 # Extra-low-voltage limit for DC (common practice, from memory: 60 V ripple-free DC).
 ELV_DC_LIMIT = 60.0
-# Irrational numbers (pi from a sine's frequency, sqrt(2 g h) from a drop) are
-# carried into the inversion as rationals of this many significant digits.
-IRRATIONAL_DIGITS = 40
 _MAX_DISSIPATORS = 12
 
 GENERAL_CAUTION = (
@@ -112,33 +110,8 @@ class Analysis:
         raise KeyError(label)
 
 
-def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr:
-    """Replace irrational constants (pi, square roots) by rationals of ``digits`` digits.
-
-    Examples
-    --------
-    >>> x = sympy.Symbol("x")
-    >>> rationalise(sympy.pi * x, 5)
-    3927*x/1250
-    """
-
-    def walk(node: sympy.Expr) -> sympy.Expr:
-        if node.is_Rational or node.is_Symbol:
-            return node
-        if node.is_number:
-            value = sympy.Float(node.evalf(digits + 5), digits)
-            if value.is_real is False or node.is_real is False:
-                return node
-            return sympy.Rational(str(value))
-        if not node.args:
-            return node
-        return node.func(*[walk(arg) for arg in node.args])
-
-    return walk(expr)
-
-
 def _invert(response: Response) -> TimeResponse:
-    return invert(rationalise(response.transform), s)
+    return invert(response.transform, s)  # invert makes irrational numbers rational
 
 
 def _network_pole_test(solution: Solution):

@@ -36,6 +36,8 @@ import sympy
 from flint import acb, acb_poly, ctx, fmpq, fmpq_poly, fmpz_poly
 from sympy.core.parameters import distribute
 
+from .exact import IRRATIONAL_DIGITS, rationalise
+
 __all__ = ["Impulse", "Mode", "ParametersNeeded", "TimeResponse", "invert"]
 
 #: Default time symbol used when ``invert`` is called without ``t``.
@@ -285,6 +287,9 @@ class TimeResponse:
         Time symbol.
     digits : int
         Significant digits of numeric results.
+    rounded : bool
+        True when irrational numbers in the transform were taken as rationals of
+        :data:`lumped.exact.IRRATIONAL_DIGITS` significant digits.
     """
 
     modes: tuple[Mode, ...]
@@ -294,6 +299,7 @@ class TimeResponse:
     s: sympy.Symbol
     t: sympy.Symbol
     digits: int = 30
+    rounded: bool = False
     _groups: tuple[_Group, ...] = field(default=(), repr=False, compare=False)
     _numeric: tuple[_NumericGroup, ...] | None = field(default=None, repr=False, compare=False)
 
@@ -1113,9 +1119,9 @@ def invert(
     Parameters
     ----------
     transform : sympy.Expr
-        The transform; each ``R_k`` rational in ``s`` with exact coefficients
-        (floats are converted to exact rationals), possibly with parameters;
-        each ``T_k >= 0``.
+        The transform; each ``R_k`` rational in ``s``, possibly with parameters;
+        each ``T_k >= 0``.  Floats are taken at their decimal value, irrational
+        numbers (``pi``, ``sqrt(2)``) as rationals of 40 significant digits.
     s : sympy.Symbol
         The Laplace variable.
     t : sympy.Symbol, optional
@@ -1150,6 +1156,12 @@ def invert(
     if t is None:
         t = DEFAULT_T
     expr = _exact_number(transform)
+    # Irrational coefficients (pi, sqrt(2), cos(sin(7)/2)) become rationals of
+    # IRRATIONAL_DIGITS significant digits (more when more digits are asked for):
+    # the residue machinery works over the rationals.
+    exact = rationalise(expr, max(IRRATIONAL_DIGITS, digits + 10))
+    rounded = exact != expr
+    expr = exact
     parameters = frozenset(expr.free_symbols - {s})
 
     groups_raw = _split_delays(expr, s)
@@ -1193,6 +1205,7 @@ def invert(
         s=s,
         t=t,
         digits=digits,
+        rounded=rounded,
         _groups=tuple(groups),
         _numeric=tuple(numerics) if numerics is not None else None,
     )

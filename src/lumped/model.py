@@ -419,6 +419,8 @@ class Netlist:
     settling_band: sympy.Expr = field(default_factory=lambda: sympy.Rational(2, 100))
     gravity: Gravity | None = None
     drops: tuple[Drop, ...] = ()
+    # Where an irrational number (pi, sqrt(2)) was replaced by its 40-digit rational.
+    rounded: tuple[Location, ...] = ()
 
     def element(self, name: str) -> Element | None:
         for element in self.elements:

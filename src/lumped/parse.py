@@ -10,6 +10,7 @@ magnitude with its dimensions checked against what the element needs.
 from __future__ import annotations
 
 import difflib
+import math
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import cache
@@ -28,6 +29,14 @@ from lark.exceptions import (
 
 from . import model as m
 from .errors import Location, NetlistError
+from .exact import (
+    LARGEST_VALUE,
+    LONGEST_WINDOW,
+    NARROWEST_BAND,
+    SMALLEST_VALUE,
+    WIDEST_BAND,
+    rationalise,
+)
 from .units import (
     DIMENSIONLESS,
     STANDARD_GRAVITY,
@@ -682,6 +691,13 @@ class _Scope:
                     f"{describe(left.dims)} to the power {exponent} has no unit", expr.location,
                     hint="a fractional power needs a unit whose exponents it divides",
                 )
+            if exponent.denominator != 1 and left.value.is_number and (
+                    left.value.is_negative or left.value.is_real is False):
+                raise NetlistError(
+                    f"{_show(left.value)} to the power {exponent} is not a real number",
+                    expr.location,
+                    hint="a fractional power needs a value that is not negative",
+                )
             if left.value == 0 and exponent < 0:
                 raise NetlistError("division by zero", expr.location,
                                    hint="zero cannot be raised to a negative power")
@@ -755,9 +771,18 @@ class _ModelBuilder:
         self.text = text
         self.scope = _Scope(source)
         self.overrides = overrides or {}
+        self.rounded: list[Location] = []
 
     def value(self, expr: Expr, unit: str, what: str, *, positive: bool = False,
-              number: bool = False) -> sympy.Expr:
+              number: bool = False, hint: str = "a physical element has a positive value",
+              largest: sympy.Expr = LARGEST_VALUE) -> sympy.Expr:
+        """The exact SI value of ``expr``, checked for its unit, reality and range.
+
+        The one place where a value read from the text enters the model: an
+        irrational number (``pi``, ``sqrt(2)``) becomes its rational at
+        :data:`~lumped.exact.IRRATIONAL_DIGITS` significant digits here, while
+        values that depend on a free parameter stay exact expressions.
+        """
         expected = dims_of(unit)
         _check_rotation_units(expr, unit, what)
         result = self.scope.evaluate(expr, expected)
@@ -779,13 +804,38 @@ class _ModelBuilder:
                 expr.location,
                 hint="give the parameter a value with `let` or `--set NAME=VALUE`",
             )
+        if value.is_number:
+            value = self._checked_number(value, expr, unit, what, largest)
         if positive and value.is_number and not (value > 0):
             raise NetlistError(
                 f"{what} must be greater than zero, not {_show(value)}",
                 expr.location,
-                hint="a physical element has a positive value",
+                hint=hint,
             )
         return value
+
+    def _checked_number(self, value: sympy.Expr, expr: Expr, unit: str, what: str,
+                        largest: sympy.Expr) -> sympy.Rational:
+        """A real number within the accepted range, as an exact rational."""
+        if value.is_real is False or value.has(sympy.I):
+            raise NetlistError(f"{what} is not a real number ({value})", expr.location,
+                               hint="check the signs under roots and fractional powers")
+        exact = rationalise(value)
+        if not exact.is_Rational:  # nothing the grammar builds, but never pass it on
+            raise NetlistError(f"{what} cannot be worked out as a number ({value})",
+                               expr.location, hint="simplify the expression")
+        if exact != value:
+            self.rounded.append(expr.location)
+        if exact != 0 and not SMALLEST_VALUE <= abs(exact) <= largest:
+            shown = describe(dims_of(unit)) if unit else ""
+            raise NetlistError(
+                f"{what} is {_show(exact)}{' ' + shown if shown else ''}, outside the range "
+                f"the tool accepts: {float(SMALLEST_VALUE):g} to {float(largest):g}"
+                f"{' ' + shown if shown else ''} in magnitude",
+                expr.location,
+                hint="check the power of ten and the unit prefix",
+            )
+        return exact
 
     def build(self, statements: list[RawStatement]) -> m.Netlist:
         if len(statements) > MAX_STATEMENTS:
@@ -841,6 +891,7 @@ class _ModelBuilder:
             settling_band=band,
             gravity=gravity,
             drops=tuple(drops),
+            rounded=tuple(self.rounded),
         )
 
     def _parameters(self, statements: list[RawStatement]) -> list[m.Parameter]:
@@ -1059,12 +1110,16 @@ class _ModelBuilder:
         return m.Quantity(kind, str(raw["target"]), raw["preposition"], raw["location"])
 
     def _window(self, children, loc: Location) -> m.Window:
+        longer = "a window is a length of time above zero, e.g. `window 10 ms`"
         if len(children) == 1:
             start = sympy.Integer(0)
-            stop = self.value(children[0], "s", "the window", positive=True, number=True)
+            stop = self.value(children[0], "s", "the window", positive=True, number=True,
+                              hint=longer, largest=LONGEST_WINDOW)
         else:
-            start = self.value(children[0], "s", "the window start", number=True)
-            stop = self.value(children[1], "s", "the window end", positive=True, number=True)
+            start = self.value(children[0], "s", "the window start", number=True,
+                               largest=LONGEST_WINDOW)
+            stop = self.value(children[1], "s", "the window end", positive=True, number=True,
+                              hint=longer, largest=LONGEST_WINDOW)
         if start.is_number and start < 0:
             raise NetlistError("the window cannot start before t = 0", children[0].location,
                                hint="write `window START to STOP` with START >= 0")
@@ -1074,10 +1129,13 @@ class _ModelBuilder:
         return m.Window(start, stop, loc)
 
     def _band(self, expr: Expr) -> sympy.Expr:
-        band = self.value(expr, "", "the settling band", positive=True, number=True)
-        if band.is_number and not band < 1:
-            raise NetlistError("the settling band must be below 100 %", expr.location,
-                               hint="a band such as `2 %` or `5 %`")
+        band = self.value(expr, "", "the settling band", positive=True, number=True,
+                          hint="a band such as `2 %` or `5 %`")
+        if not NARROWEST_BAND <= band <= WIDEST_BAND:
+            raise NetlistError(
+                f"the settling band is {_show(100 * band)} %; it must lie between "
+                f"{float(100 * NARROWEST_BAND):g} % and {float(100 * WIDEST_BAND):g} %",
+                expr.location, hint="a band such as `2 %` or `5 %`")
         return band
 
     def _requirement(self, children, loc: Location) -> m.Requirement:
@@ -1172,9 +1230,12 @@ def _example_for(unit: str) -> str:
 
 def _show(value: sympy.Expr) -> str:
     try:
-        return f"{float(value):g}"
+        number = float(value)
     except TypeError:
         return str(value)
+    if value != 0 and (number == 0 or not math.isfinite(number)):
+        return str(sympy.Float(value, 3))  # beyond double precision: sympy's own digits
+    return f"{number:g}"
 
 
 # ---------------------------------------------------------------------------

@@ -7,6 +7,7 @@ import math
 import sympy
 
 from . import model as m
+from .exact import IRRATIONAL_DIGITS
 
 _PREFIXES = [
     (1e12, "T"), (1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"),
@@ -427,6 +428,13 @@ def verdict_line(verdict, colour=lambda text, _style: text) -> str:
     return f"  {mark}  {what} (line {line})\n        {got}"
 
 
+def _rounded(analysis) -> bool:
+    """True when an irrational number (pi, sqrt(2)) was taken as a rational somewhere."""
+    return bool(getattr(analysis.netlist, "rounded", ())) or any(
+        result.time is not None and getattr(result.time, "rounded", False)
+        for result in analysis.results)
+
+
 def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
     """The plain-text report of an analysis (80 columns; ANSI colour when asked).
 
@@ -452,6 +460,9 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
                    f"{engineering(analysis.stop, 's')}{chosen}")
         for note in analysis.notes:
             out.extend(_wrap("  note: ", note))
+        if _rounded(analysis):
+            out.extend(_wrap("  note: ", f"irrational values taken to {IRRATIONAL_DIGITS} "
+                                         "significant digits"))
         for result in analysis.results:
             out.append("")
             unit = _PRETTY_UNIT.get(result.unit, result.unit)
@@ -537,6 +548,8 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
 
 
 def _complex_text(value) -> str:
+    if getattr(value, "free_symbols", None):
+        return short_formula(value)  # a pole or zero in terms of the free parameters
     number = complex(sympy.N(value))
     if abs(number.imag) < 1e-12 * max(1.0, abs(number.real)):
         return f"{number.real:.4g}"
