@@ -27,7 +27,12 @@ import sympy
 
 from . import model as m
 from .equations import Response, Solution, assemble, s
-from .exact import IRRATIONAL_DIGITS, rationalise  # noqa: F401 - kept importable from here
+from .errors import UnknownQuantityError
+from .exact import (  # noqa: F401 - the first two stay importable from here
+    IRRATIONAL_DIGITS,
+    rationalise,
+    refuse_unresolvable,
+)
 from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from .inversion import ParametersNeeded, TimeResponse, invert
 from .topology import validate
@@ -107,7 +112,7 @@ class Analysis:
         for item in self.results:
             if item.quantity.label == label:
                 return item
-        raise KeyError(label)
+        raise UnknownQuantityError(label, [item.quantity.label for item in self.results])
 
 
 def _invert(response: Response) -> TimeResponse:
@@ -203,6 +208,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
         start, stop = _default_window([t for t in times if t is not None], netlist)
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
+    refuse_unresolvable(netlist, times, start, stop)  # never leave the figures running
     band = float(netlist.settling_band)
     own_pole = _network_pole_test(solution)
     results = []

@@ -335,12 +335,39 @@ def plot(analysis, path: Path, count: int = 2001) -> bytes:
     return buffer.getvalue()
 
 
+def _refuse_unsampled(analysis, what: str) -> None:
+    """Waveform samples need numbers: refuse (before anything is written) when a watched
+    response still depends on a parameter without a value."""
+    from .equations import s
+    from .parse import example_value
+
+    needed = set()
+    for result in analysis.results:
+        if result.time is None or result.time.parameters:
+            needed |= result.response.transform.free_symbols - {s}
+    if not needed:
+        return
+    names = sorted(str(x) for x in needed)
+    units = {p.name: p.unit for p in analysis.netlist.parameters}
+    settings = " ".join(f"--set \"{name}={example_value(units.get(name, ''))}\""
+                        for name in names)
+    raise NetlistError(
+        f"{what}: the waveforms cannot be sampled while {', '.join(names)} "
+        f"{'has' if len(names) == 1 else 'have'} no value",
+        hint=f"give {'it a value' if len(names) == 1 else 'them values'}, e.g. {settings}; "
+        "the text report, --json and --latex keep the closed forms in the parameters",
+    )
+
+
 def emit(analysis, args) -> int:
     """Print the report, write the requested files; exit 0 pass, 1 a requirement fails."""
     colour = args.color == "always" or (args.color == "auto" and sys.stdout.isatty()
                                         and os.environ.get("NO_COLOR") is None)
     files: list[tuple[Path, str | bytes]] = []
     count = max(2, int(args.samples))
+    for option in ("csv", "plot"):
+        if getattr(args, option, None):
+            _refuse_unsampled(analysis, f"--{option} {getattr(args, option)}")
     if args.json:
         files.append((Path(args.json), to_json(analysis)))
     if args.csv:

@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import difflib
 import math
+import re
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import cache
@@ -375,22 +376,47 @@ def _error_key(error: UnexpectedInput) -> tuple:
     return position, frozenset(accepts)
 
 
+def _token_type(error: UnexpectedInput) -> str:
+    token = getattr(error, "token", None)
+    return "$END" if token is None else str(token.type)
+
+
 @cache
-def _example_keys() -> dict[tuple, str]:
-    """Parser states reached by the example slips, each mapped to its label."""
-    keys: dict[tuple, str] = {}
+def _example_keys() -> tuple[dict[tuple, str], dict[tuple, str]]:
+    """Parser states reached by the example slips, each mapped to its label.
+
+    Two slips can stop the parser in the same state and differ only in the
+    token met there (`resistor R1 2 ohm from` and `resistor from a to b`, where
+    `from` was taken as the name): the first map keys on the token too, the
+    second on the state alone for slips the examples do not spell out.
+    """
+    exact: dict[tuple, str] = {}
+    by_state: dict[tuple, str] = {}
     for label, examples in _EXAMPLES.items():
         for example in examples:
             try:
                 parser().parse(example)
             except UnexpectedInput as error:
-                keys.setdefault(_error_key(error), label)
-    return keys
+                exact.setdefault((*_error_key(error), _token_type(error)), label)
+                by_state.setdefault(_error_key(error), label)
+    return exact, by_state
 
 
-def _classify(error: UnexpectedInput) -> str | None:
+_MISSING_NAME = "missing name"
+_NOT_NAMED = {"let", "watch", "window", "require", "settling band", "gravity", "drop"}
+# A placement word where the name should be: the parser takes the word as the name.
+_NAME_IS_A_PLACEMENT = re.compile(
+    r"^[ \t]*(?:" + "|".join(k.replace(" ", r"[ \t]+") for k in sorted(
+        set(KEYWORDS) - _NOT_NAMED, key=len, reverse=True)) + r")[ \t]+(?:from|at|on)[ \t]")
+
+
+def _classify(error: UnexpectedInput, line_text: str = "") -> str | None:
     """Match an error against the example slips by the parser state they reach."""
-    return _example_keys().get(_error_key(error))
+    if _NAME_IS_A_PLACEMENT.match(line_text):
+        return next(label for label in _EXAMPLES if label.startswith(_MISSING_NAME))
+    exact, by_state = _example_keys()
+    key = _error_key(error)
+    return exact.get((*key, _token_type(error))) or by_state.get(key)
 
 
 def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistError:
@@ -404,6 +430,14 @@ def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistE
         column = len(lines[-1]) + 1
     if token is not None and token.type not in ("$END", "_NL"):
         width = max(1, len(str(token)))
+    spaced = _spaced_unit(text, line, column)
+    if spaced is not None:
+        written, joined, start = spaced
+        return NetlistError(
+            f"a space inside the unit '{written}'",
+            Location(source, line, start, len(written)),
+            hint=f"write units without spaces: `{joined}`",
+        ).with_text(text)
     misspelt = _misspelt_word_before(text, line, column)
     if misspelt is not None:
         word, keyword, word_column = misspelt
@@ -411,7 +445,8 @@ def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistE
             f"unknown word '{word}'", Location(source, line, word_column, len(word)),
             hint=f"did you mean '{keyword}'?",
         ).with_text(text)
-    label = _classify(error)
+    lines = text.split("\n")
+    label = _classify(error, lines[line - 1] if 1 <= line <= len(lines) else "")
     if label is not None:
         what, hint = label.split(": ", 1)
         found = _describe_token(token, error)
@@ -432,7 +467,6 @@ _INNER_WORDS = (
 
 
 def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, int] | None:
-    import re
 
     lines = text.split("\n")
     if not 1 <= line <= len(lines):
@@ -451,6 +485,35 @@ def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, 
         if close and len(word) >= 2:
             return word, close[0], match.start() + 1
     return None
+
+
+_NUMBER_THEN_WORDS = re.compile(
+    r"(\d+(?:\.\d*)?(?:[eE][-+]?\d+)?|\.\d+(?:[eE][-+]?\d+)?)[ \t]+"
+    r"((?:[A-Za-zµΩ°%][^\s#()]*[ \t]+)+)$")
+
+
+def _spaced_unit(text: str, line: int, column: int) -> tuple[str, str, int] | None:
+    """`1 k ohm`, `2 m V`: a number followed by a unit split by spaces, read as one.
+
+    Returns the unit as written, the number with the unit joined, and its column.
+    """
+    lines = text.split("\n")
+    if not 1 <= line <= len(lines):
+        return None
+    here = lines[line - 1]
+    found = _NUMBER_THEN_WORDS.search(here[: column - 1])
+    word = re.match(r"[A-Za-zµΩ°%][^\s#()]*", here[column - 1 :])
+    if found is None or word is None:
+        return None
+    pieces = [*found.group(2).split(), word.group(0)]
+    joined = "".join(pieces)
+    try:
+        parse_unit(joined)
+    except UnitError:
+        return None
+    start = found.start(2) + 1
+    written = here[start - 1 : column - 1 + len(word.group(0))]
+    return written, f"{found.group(1)} {joined}", start
 
 
 def _describe_token(token, error) -> str:
@@ -805,7 +868,7 @@ class _ModelBuilder:
                 hint="give the parameter a value with `let` or `--set NAME=VALUE`",
             )
         if value.is_number:
-            value = self._checked_number(value, expr, unit, what, largest)
+            value = self._checked_number(value, expr, unit, what, largest, positive)
         if positive and value.is_number and not (value > 0):
             raise NetlistError(
                 f"{what} must be greater than zero, not {_show(value)}",
@@ -815,7 +878,7 @@ class _ModelBuilder:
         return value
 
     def _checked_number(self, value: sympy.Expr, expr: Expr, unit: str, what: str,
-                        largest: sympy.Expr) -> sympy.Rational:
+                        largest: sympy.Expr, positive: bool) -> sympy.Rational:
         """A real number within the accepted range, as an exact rational."""
         if value.is_real is False or value.has(sympy.I):
             raise NetlistError(f"{what} is not a real number ({value})", expr.location,
@@ -826,11 +889,14 @@ class _ModelBuilder:
                                expr.location, hint="simplify the expression")
         if exact != value:
             self.rounded.append(expr.location)
-        if exact != 0 and not SMALLEST_VALUE <= abs(exact) <= largest:
+        # A physical size (positive) lies within the range; a signed value (an
+        # amplitude, an initial condition, a bound) may also be zero or tiny.
+        smallest = SMALLEST_VALUE if positive else 0
+        if exact != 0 and not smallest <= abs(exact) <= largest:
             shown = describe(dims_of(unit)) if unit else ""
             raise NetlistError(
                 f"{what} is {_show(exact)}{' ' + shown if shown else ''}, outside the range "
-                f"the tool accepts: {float(SMALLEST_VALUE):g} to {float(largest):g}"
+                f"the tool accepts: {float(smallest):g} to {float(largest):g}"
                 f"{' ' + shown if shown else ''} in magnitude",
                 expr.location,
                 hint="check the power of ten and the unit prefix",
@@ -1191,7 +1257,6 @@ def _unit_texts(expr: Expr) -> list[tuple[str, Location]]:
 
 def _check_rotation_units(expr: Expr, unit: str, what: str) -> None:
     """Hz and rad/s have the same dimensions; refuse the one that is off by 2 pi."""
-    import re
 
     for text, where in _unit_texts(expr):
         words = re.findall(r"[A-Za-zµΩ°]+", text)
@@ -1224,8 +1289,18 @@ _EXAMPLE_VALUES = {
 }
 
 
-def _example_for(unit: str) -> str:
+def example_value(unit: str) -> str:
+    """A sample value with a unit of the given SI unit's kind, for hints.
+
+    Examples
+    --------
+    >>> example_value("ohm")
+    '2.2 kohm'
+    """
     return _EXAMPLE_VALUES.get(unit, f"1 {unit}" if unit else "2")
+
+
+_example_for = example_value
 
 
 def _show(value: sympy.Expr) -> str:
@@ -1300,6 +1375,10 @@ def parse_text(text: str | bytes, source: str = "<text>",
     2200
     """
     prepared = _prepare(text, source)
+    if not prepared.strip():
+        raise NetlistError(f"{source} is empty",
+                           hint="write the network one statement a line, e.g. `resistor R1 "
+                           "from a to ground 1 kohm`; `lumped --syntax` shows the language")
     try:
         tree = parser().parse(prepared)
     except UnexpectedInput as error:
