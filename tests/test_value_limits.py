@@ -60,16 +60,22 @@ def test_sqrt_and_pi_in_values_solve(tmp_path):
     assert abs(tau - float(expected)) <= 1e-15 * float(expected)
 
 
-def test_irrational_value_is_exact_to_forty_digits():
+def test_irrational_value_stays_exact_in_the_model_and_is_taken_at_forty_digits():
     net = loads(RC.format(r="sqrt(2) * 1 kohm", c="1 uF", extra=""))
-    value = net.element("R1").value
-    assert value.is_Rational
-    # mpmath at 60 digits is the yardstick for sqrt(2).
+    assert net.element("R1").value == 1000 * sympy.sqrt(2)  # the model keeps it exact
+    assert len(net.rounded) == 1 and net.rounded[0].line == 2
+    from lumped.analysis import analyse
+
+    (mode,) = [m for m in analyse(net).results[0].time.modes if m.pole != 0]
+    pole = mode.pole_exact
+    assert pole.is_Rational  # the algebra met a rational
+    # mpmath at 60 digits is the yardstick: p = -1/(R C) (common practice).
     import mpmath
 
     with mpmath.workdps(60):
-        error = abs(mpmath.mpf(int(value.p)) / int(value.q) - 1000 * mpmath.sqrt(2))
-        assert error < mpmath.mpf(10) ** -36 * 1000
+        want = -1 / (1000 * mpmath.sqrt(2) * mpmath.mpf(10) ** -6)
+        got = mpmath.mpf(int(pole.p)) / int(pole.q)
+        assert abs(got - want) < mpmath.mpf(10) ** -36 * abs(want)
 
 
 def test_sqrt_and_pi_through_set(tmp_path):

@@ -139,12 +139,15 @@ def refuse_unresolvable(netlist, times, start: float, stop: float) -> None:
         return
     period, periods = worst
     window = getattr(netlist, "window", None)
+    chosen = "" if window is not None else " (chosen from the slowest time constant)"
     raise NetlistError(
         f"the network rings with a period of {period:.3g} s for about {periods:.3g} periods "
-        f"within the window of {stop - start:.3g} s; the tool follows at most "
+        f"within the window of {stop - start:.3g} s{chosen}; the tool follows at most "
         f"{MOST_PERIODS:.0e} periods of one ringing, so these two time scales are too far "
         "apart to solve here",
         window.location if window is not None else None,
-        hint="check the values that set the fast ringing (a stiffness, a constant or a "
-        "capacitance many decades off?), or shorten the window to a few of its periods",
+        hint="check the values that set the ringing and the slow decay (a stiffness, a "
+        "constant or a damping many decades off?), or "
+        + ("shorten the window" if window is not None else "give a `window`")
+        + f" of a few periods, e.g. `window {10 * period:.3g} s`",
     ).with_text(getattr(netlist, "text", ""))

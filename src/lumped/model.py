@@ -419,7 +419,7 @@ class Netlist:
     settling_band: sympy.Expr = field(default_factory=lambda: sympy.Rational(2, 100))
     gravity: Gravity | None = None
     drops: tuple[Drop, ...] = ()
-    # Where an irrational number (pi, sqrt(2)) was replaced by its 40-digit rational.
+    # Where a value is irrational (pi, sqrt(2)): the algebra takes it at 40 digits.
     rounded: tuple[Location, ...] = ()
 
     def element(self, name: str) -> Element | None:

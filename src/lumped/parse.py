@@ -430,6 +430,14 @@ def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistE
         column = len(lines[-1]) + 1
     if token is not None and token.type not in ("$END", "_NL"):
         width = max(1, len(str(token)))
+    stray = _unit_after_expression(text, line, column)
+    if stray is not None:
+        word, before = stray
+        return NetlistError(
+            f"the unit '{word}' follows {before}, not a number",
+            Location(source, line, column, len(word)),
+            hint=f"a unit goes right after a number; multiply instead: `... * 1 {word}`",
+        ).with_text(text)
     spaced = _spaced_unit(text, line, column)
     if spaced is not None:
         written, joined, start = spaced
@@ -490,6 +498,23 @@ def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, 
 _NUMBER_THEN_WORDS = re.compile(
     r"(\d+(?:\.\d*)?(?:[eE][-+]?\d+)?|\.\d+(?:[eE][-+]?\d+)?)[ \t]+"
     r"((?:[A-Za-zµΩ°%][^\s#()]*[ \t]+)+)$")
+
+
+def _unit_after_expression(text: str, line: int, column: int) -> tuple[str, str] | None:
+    """`sqrt(2) ohm`, `pi rad`: a unit after something other than a number."""
+    lines = text.split("\n")
+    if not 1 <= line <= len(lines):
+        return None
+    here = lines[line - 1]
+    word = re.match(r"[A-Za-zµΩ°%][A-Za-z0-9µΩ°_*/^.-]*", here[column - 1 :])
+    before = here[: column - 1].rstrip()
+    if word is None or not _is_unit(word.group(0)):
+        return None
+    if before.endswith(")"):
+        return word.group(0), "a closing parenthesis"
+    if re.search(r"(?<![A-Za-z0-9_])pi$", before):
+        return word.group(0), "pi"
+    return None
 
 
 def _spaced_unit(text: str, line: int, column: int) -> tuple[str, str, int] | None:
@@ -696,6 +721,9 @@ class _Scope:
                     if close
                     else f"define it first with `let {expr.name} = ...`"
                 )
+                if _is_unit(expr.name):
+                    hint = (f"'{expr.name}' is a unit: write it right after a number "
+                            f"(`2 {expr.name}`), or multiply by one (`... * 1 {expr.name}`)")
                 raise NetlistError(f"unknown parameter '{expr.name}'", expr.location, hint=hint)
             return self.values[expr.name]
         op = expr.op
@@ -797,6 +825,14 @@ class _Scope:
         return SIValue(value * factor, dims)
 
 
+def _is_unit(word: str) -> bool:
+    try:
+        parse_unit(word)
+    except UnitError:
+        return False
+    return True
+
+
 def _bits(value: sympy.Expr) -> int:
     """Size of the exact rational part of a value (numerator or denominator, in bits)."""
     coefficient = value if value.is_Rational else value.as_coeff_Mul()[0]
@@ -838,13 +874,13 @@ class _ModelBuilder:
 
     def value(self, expr: Expr, unit: str, what: str, *, positive: bool = False,
               number: bool = False, hint: str = "a physical element has a positive value",
-              largest: sympy.Expr = LARGEST_VALUE) -> sympy.Expr:
+              largest: sympy.Expr = LARGEST_VALUE, ranged: bool = True) -> sympy.Expr:
         """The exact SI value of ``expr``, checked for its unit, reality and range.
 
-        The one place where a value read from the text enters the model: an
-        irrational number (``pi``, ``sqrt(2)``) becomes its rational at
-        :data:`~lumped.exact.IRRATIONAL_DIGITS` significant digits here, while
-        values that depend on a free parameter stay exact expressions.
+        Every value read from the text passes here: it must be real and lie in
+        the documented range (:mod:`lumped.exact`).  Values stay exact (``pi``
+        stays ``pi``); where one is irrational its place is noted, since the
+        algebra takes it at :data:`~lumped.exact.IRRATIONAL_DIGITS` digits.
         """
         expected = dims_of(unit)
         _check_rotation_units(expr, unit, what)
@@ -868,7 +904,8 @@ class _ModelBuilder:
                 hint="give the parameter a value with `let` or `--set NAME=VALUE`",
             )
         if value.is_number:
-            value = self._checked_number(value, expr, unit, what, largest, positive)
+            value = self._checked_number(value, expr, unit, what,
+                                         largest if ranged else sympy.oo, positive and ranged)
         if positive and value.is_number and not (value > 0):
             raise NetlistError(
                 f"{what} must be greater than zero, not {_show(value)}",
@@ -878,11 +915,13 @@ class _ModelBuilder:
         return value
 
     def _checked_number(self, value: sympy.Expr, expr: Expr, unit: str, what: str,
-                        largest: sympy.Expr, positive: bool) -> sympy.Rational:
-        """A real number within the accepted range, as an exact rational."""
+                        largest: sympy.Expr, positive: bool) -> sympy.Expr:
+        """A real number within the accepted range (irrational ones are noted)."""
         if value.is_real is False or value.has(sympy.I):
             raise NetlistError(f"{what} is not a real number ({value})", expr.location,
                                hint="check the signs under roots and fractional powers")
+        # Checked at 40 digits; the model keeps the exact value (pi stays pi) and the
+        # algebra takes irrational numbers as rationals where it meets them.
         exact = rationalise(value)
         if not exact.is_Rational:  # nothing the grammar builds, but never pass it on
             raise NetlistError(f"{what} cannot be worked out as a number ({value})",
@@ -901,7 +940,7 @@ class _ModelBuilder:
                 expr.location,
                 hint="check the power of ten and the unit prefix",
             )
-        return exact
+        return value
 
     def build(self, statements: list[RawStatement]) -> m.Netlist:
         if len(statements) > MAX_STATEMENTS:
@@ -1196,7 +1235,7 @@ class _ModelBuilder:
 
     def _band(self, expr: Expr) -> sympy.Expr:
         band = self.value(expr, "", "the settling band", positive=True, number=True,
-                          hint="a band such as `2 %` or `5 %`")
+                          hint="a band such as `2 %` or `5 %`", ranged=False)
         if not NARROWEST_BAND <= band <= WIDEST_BAND:
             raise NetlistError(
                 f"the settling band is {_show(100 * band)} %; it must lie between "
@@ -1392,6 +1431,10 @@ def parse_text(text: str | bytes, source: str = "<text>",
         overrides = _override_expressions(values) if values else None
         return _ModelBuilder(source, prepared, overrides).build(statements)
     except NetlistError as error:
+        where = error.location.source if error.location is not None else source
+        name = where.removeprefix("--set ")
+        if values and where != source and name in values:
+            raise error.with_text(f"let {name} = {values[name]}") from None  # a --set value
         raise error.with_text(prepared) from None
     except RecursionError:
         raise NetlistError(
