@@ -321,3 +321,22 @@ def test_irrational_coefficients_agree_with_sympy(transform) -> None:
 
 def test_rational_coefficients_are_not_flagged_rounded() -> None:
     assert not invert(1 / (s + 1), s).rounded
+
+
+@pytest.mark.parametrize("transform", [
+    1 / (sympy.sqrt(sympy.Symbol("a", positive=True)) * s + 1),
+    1 / (s * (s + sympy.sqrt(sympy.Symbol("a", positive=True) / 3))),
+    sympy.sqrt(sympy.Symbol("a", positive=True))
+    / (s + 1 + sympy.sqrt(1 + sympy.sqrt(sympy.Symbol("a", positive=True)))),
+], ids=["sqrt-a-times-s", "sqrt-of-a-ratio", "nested-roots"])
+def test_roots_of_parameters_keep_their_form(transform) -> None:
+    # Reference: sympy.inverse_laplace_transform run here, compared at a = 2 and t = 0.7.
+    tt = sympy.Symbol("t", positive=True)
+    a = sympy.Symbol("a", positive=True)
+    result = invert(transform, s, t=tt)
+    assert result.parameters == {a}
+    assert not any(isinstance(x, sympy.Dummy) for x in result.expression.free_symbols)
+    expected = sympy.inverse_laplace_transform(transform, s, tt)
+    point = {a: 2, tt: sympy.Rational(7, 10)}
+    assert float(result.expression.subs(point)) == pytest.approx(
+        float(expected.subs(point)), rel=1e-12)

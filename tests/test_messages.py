@@ -94,3 +94,31 @@ def test_unknown_quantity_label_lists_the_labels():
     assert "'voltage at nowhere'" in message
     assert "'voltage at a'" in message and "'current in R'" in message
     assert analysis.result("voltage at a").quantity.label == "voltage at a"
+
+
+@pytest.mark.parametrize("value, before", [("sqrt(2) kohm", "a closing parenthesis"),
+                                           ("2 * pi ohm", "pi")])
+def test_a_unit_after_something_other_than_a_number(tmp_path, value, before):
+    status, err = _run(tmp_path, f"resistor R1 from a to ground {value}\n")
+    assert status == 2
+    unit = value.split()[-1]
+    assert f"the unit '{unit}' follows {before}, not a number" in err
+    assert f"`... * 1 {unit}`" in err
+
+
+def test_a_unit_used_as_a_parameter_says_it_is_a_unit(tmp_path):
+    status, err = _run(tmp_path, "resistor R1 from a to ground 2 / ohm\n")
+    assert status == 2
+    assert "unknown parameter 'ohm'" in err and "'ohm' is a unit" in err
+
+
+@pytest.mark.parametrize("setting, shown", [
+    ("R=1e999 ohm", "let R = 1e999 ohm"),
+    ("R=1 kohm / ohm", "let R = 1 kohm / ohm"),
+])
+def test_a_bad_set_value_shows_its_own_line(tmp_path, setting, shown):
+    status, err = _run(tmp_path, "let R in ohm\nresistor R1 from a to ground R\n",
+                       "--set", setting)
+    assert status == 2
+    assert err.startswith("--set R:1:")
+    assert err.splitlines()[1].strip() == shown

@@ -302,11 +302,16 @@ class TimeResponse:
     rounded: bool = False
     _groups: tuple[_Group, ...] = field(default=(), repr=False, compare=False)
     _numeric: tuple[_NumericGroup, ...] | None = field(default=None, repr=False, compare=False)
+    _restore: tuple = field(default=(), repr=False, compare=False)
 
     @functools.cached_property
     def expression(self) -> sympy.Expr:
         """The closed form, built on first use: numbers alone never need it."""
-        return sympy.Add(*[_render_group(g, self.t, False) for g in self._groups])
+        return self._restored(sympy.Add(*[_render_group(g, self.t, False)
+                                          for g in self._groups]))
+
+    def _restored(self, expr: sympy.Expr) -> sympy.Expr:
+        return expr.xreplace(dict(self._restore)) if self._restore else expr
 
     def amplitude_phase(self) -> sympy.Expr:
         """Closed form with each damped sinusoid as ``M e^{sigma t} cos(w t + phi)``.
@@ -323,7 +328,8 @@ class TimeResponse:
         >>> r.amplitude_phase()
         exp(-t)*cos(2*t - pi/2)/2
         """
-        return sympy.Add(*[_render_group(g, self.t, True) for g in self._groups])
+        return self._restored(sympy.Add(*[_render_group(g, self.t, True)
+                                          for g in self._groups]))
 
     def substitute(self, values: dict) -> TimeResponse:
         """Give parameters values and invert again.
@@ -545,6 +551,18 @@ def _direct_sum(tau: np.ndarray, poles: np.ndarray, matrix: np.ndarray) -> np.nd
 # ---------------------------------------------------------------------------
 # splitting X(s) into delay groups
 # ---------------------------------------------------------------------------
+
+
+def _parameter_radicals(expr: sympy.Expr, s: sympy.Symbol) -> set:
+    """Parts of ``expr`` that depend on parameters but are not polynomial in them."""
+    found = set()
+    for node in sympy.preorder_traversal(expr):
+        if not isinstance(node, sympy.Expr) or node.has(s) or not node.free_symbols:
+            continue
+        if (node.is_Pow and not node.exp.is_Integer) or isinstance(node, sympy.Function):
+            found.add(node)
+    # Keep the outermost ones: sqrt(1 + sqrt(n)) stands in whole.
+    return {a for a in found if not any(a != b and b.has(a) for b in found)}
 
 
 def _exact_number(value: Any) -> sympy.Expr:
@@ -1163,6 +1181,15 @@ def invert(
     rounded = exact != expr
     expr = exact
     parameters = frozenset(expr.free_symbols - {s})
+    # Roots and other functions of parameters (sqrt(L/C)) stand in as symbols of
+    # their own while the algebra runs over Q(parameters); the closed form gets
+    # them back.  Identities over that larger field hold for the actual values.
+    stand_ins: dict = {}
+    while radicals := _parameter_radicals(expr, s):  # outermost first, then what is left
+        fresh = {atom: sympy.Dummy(f"p{len(stand_ins) + k}", positive=True)
+                 for k, atom in enumerate(sorted(radicals, key=sympy.default_sort_key))}
+        expr = expr.xreplace(fresh)
+        stand_ins.update(fresh)
 
     groups_raw = _split_delays(expr, s)
     groups: list[_Group] = []
@@ -1206,6 +1233,7 @@ def invert(
         t=t,
         digits=digits,
         rounded=rounded,
+        _restore=tuple((dummy, atom) for atom, dummy in stand_ins.items()),
         _groups=tuple(groups),
         _numeric=tuple(numerics) if numerics is not None else None,
     )
