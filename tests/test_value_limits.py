@@ -194,3 +194,19 @@ def test_error_type_is_the_project_error():
     with pytest.raises(NetlistError):
         loads(RC.format(r="1e600 ohm", c="1 uF", extra=""))
 
+
+
+@pytest.mark.parametrize("capacitance", [sympy.Rational(1, 10**600), sympy.Integer(10) ** 600])
+def test_the_solver_scales_values_beyond_double_precision(capacitance):
+    # A model built in Python is not range-checked; the exact solve must still work.
+    # Pole of the RC divider: p = -1/(RC) (common practice), compared exactly.
+    from dataclasses import replace
+
+    net = loads(RC.format(r="1 kohm", c="1 uF", extra=""))
+    elements = tuple(replace(e, value=capacitance) if e.name == "C1" else e
+                     for e in net.elements)
+    net = replace(net, elements=elements)
+    from lumped.equations import assemble
+
+    tf = assemble(net).transfer_function("V1", net.watches[0])
+    assert tf.poles == (-1 / (1000 * capacitance),)
