@@ -124,6 +124,11 @@ REFUSED = [
     ("complex-ratio", "inertia J1 at shaft 0.02 kg*m^2\ninertia J2 at out 0.01 kg*m^2\n"
      "gear G1 from shaft to out ratio (-8)^(1/3)\ntorque source T1 at shaft step 1 N*m\n",
      "3:33", "not a real number"),
+    ("root-of-a-negated-parameter", "let n\n" + RC.format(r="sqrt(-n) * 1 ohm", c="1 F",
+                                                          extra=""), "3:27", "negative"),
+    ("cube-root-of-a-negated-parameter", "let n\n" + RC.format(r="(-n)^(1/3) * 1 ohm",
+                                                               c="1 F", extra=""),
+     "3:27", "not a real number"),
     ("huge-amplitude", RC.format(r="1 kohm", c="1 uF", extra="").replace("step 5 V",
                                                                           "step 1e31 V"),
      "1:29", "1e+30"),

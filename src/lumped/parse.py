@@ -741,7 +741,7 @@ class _Scope:
                     expr.location,
                     hint="take roots of quantities whose units are squares",
                 )
-            if inner.value.is_number and inner.value.is_negative:
+            if inner.value.is_negative:  # a number, or -n with n a (positive) parameter
                 raise NetlistError("square root of a negative value", expr.location,
                                    hint="the value under sqrt(...) must not be negative")
             return SIValue(sympy.sqrt(inner.value), dims)
@@ -782,7 +782,7 @@ class _Scope:
                     f"{describe(left.dims)} to the power {exponent} has no unit", expr.location,
                     hint="a fractional power needs a unit whose exponents it divides",
                 )
-            if exponent.denominator != 1 and left.value.is_number and (
+            if exponent.denominator != 1 and (
                     left.value.is_negative or left.value.is_real is False):
                 raise NetlistError(
                     f"{_show(left.value)} to the power {exponent} is not a real number",
@@ -823,6 +823,13 @@ class _Scope:
                 hint=exc.hint,
             ) from None
         return SIValue(value * factor, dims)
+
+
+def _not_real(value: sympy.Expr) -> bool:
+    """True when a value is complex: sqrt(-2), (-8)^(1/3), or such a factor times a parameter."""
+    if value.is_real is False or value.has(sympy.I):
+        return True
+    return any(p.is_number and p.is_real is False for p in value.atoms(sympy.Pow))
 
 
 def _is_unit(word: str) -> bool:
@@ -896,6 +903,9 @@ class _ModelBuilder:
                 hint = f"write it in {want} (or a prefixed form), e.g. `{_example_for(unit)}`"
             raise NetlistError(message, expr.location, hint=hint)
         value = result.value
+        if _not_real(value):
+            raise NetlistError(f"{what} is not a real number ({value})", expr.location,
+                               hint="check the signs under roots and fractional powers")
         if number and value.free_symbols:
             names = ", ".join(sorted(str(x) for x in value.free_symbols))
             raise NetlistError(
@@ -917,9 +927,6 @@ class _ModelBuilder:
     def _checked_number(self, value: sympy.Expr, expr: Expr, unit: str, what: str,
                         largest: sympy.Expr, positive: bool) -> sympy.Expr:
         """A real number within the accepted range (irrational ones are noted)."""
-        if value.is_real is False or value.has(sympy.I):
-            raise NetlistError(f"{what} is not a real number ({value})", expr.location,
-                               hint="check the signs under roots and fractional powers")
         # Checked at 40 digits; the model keeps the exact value (pi stays pi) and the
         # algebra takes irrational numbers as rationals where it meets them.
         exact = rationalise(value)
