@@ -100,3 +100,14 @@ def test_values_given_with_set_make_the_csv(tmp_path):
     assert status == 0, err
     header = (tmp_path / "o.csv").read_text().splitlines()[0]
     assert "voltage at out" in header
+
+
+def test_poles_of_a_fourth_order_symbolic_network_are_not_called_none(tmp_path):
+    text = SYMBOLIC.replace("capacitor C1 at out 1 uF\n", "capacitor C1 at c 1 uF\n").replace(
+        "inductor L1 from b to out 1 mH\n",
+        "inductor L1 from b to c 1 mH\ninductor L2 from c to out 1 mH\n"
+        "capacitor C2 at out 1 uF\n")
+    status, out, err = _run(tmp_path, text, "--transfer", "V1")
+    assert status == 0, err
+    poles = " ".join(out.split("── from V1")[1].split("zeros")[0].split())
+    assert "poles the 4 roots of" in poles and "need values for R" in poles

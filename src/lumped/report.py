@@ -557,6 +557,18 @@ def _complex_text(value) -> str:
     return f"{number.real:.4g} {sign} j{abs(number.imag):.4g}"
 
 
+def _roots_text(roots, polynomial) -> str:
+    """Roots as a list; with free parameters past degree 2 they stay unnamed, so say so."""
+    if roots:
+        return ", ".join(_complex_text(r) for r in roots)
+    degree = polynomial.degree()
+    names = sorted(str(x) for x in polynomial.free_symbols - set(polynomial.gens))
+    if degree > 0 and names:
+        return (f"the {degree} roots of {short_formula(polynomial.as_expr())} = 0 "
+                f"(no closed form above degree 2; they need values for {', '.join(names)})")
+    return "none"
+
+
 def transfer_text(tf) -> str:
     """A transfer function as text: H(s), poles, zeros, DC gain, 2nd-order factors, stability.
 
@@ -573,8 +585,8 @@ def transfer_text(tf) -> str:
     lines = [f"── from {tf.source} to {tf.quantity.label} " + "─" * max(
         3, _WIDTH - 12 - len(tf.source) - len(tf.quantity.label))]
     lines.extend(_wrap("  H(s) = ", short_formula(tf.expr)))
-    lines.extend(_wrap("  poles  ", ", ".join(_complex_text(p) for p in tf.poles) or "none"))
-    lines.extend(_wrap("  zeros  ", ", ".join(_complex_text(z) for z in tf.zeros) or "none"))
+    lines.extend(_wrap("  poles  ", _roots_text(tf.poles, tf.denominator)))
+    lines.extend(_wrap("  zeros  ", _roots_text(tf.zeros, tf.numerator)))
     if tf.dc_gain is not None:
         lines.extend(_wrap("  DC gain  ", short_formula(tf.dc_gain)))
     else:
