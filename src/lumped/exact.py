@@ -54,7 +54,10 @@ def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr
             return sympy.Rational(str(sympy.Float(value, digits)))
         if not node.args:
             return node
-        return node.func(*[walk(arg) for arg in node.args])
+        args = [walk(arg) for arg in node.args]
+        if all(new is old for new, old in zip(args, node.args, strict=True)):
+            return node  # nothing irrational below: no rebuilding of large expressions
+        return node.func(*args)
 
     return walk(sympy.sympify(expr) if not isinstance(expr, sympy.Basic) else expr)
 
