@@ -111,3 +111,15 @@ def test_poles_of_a_fourth_order_symbolic_network_are_not_called_none(tmp_path):
     assert status == 0, err
     poles = " ".join(out.split("── from V1")[1].split("zeros")[0].split())
     assert "poles the 4 roots of" in poles and "need values for R" in poles
+
+
+def test_library_csv_and_plot_refuse_symbolic_responses(tmp_path):
+    from lumped.analysis import analyse
+    from lumped.errors import NetlistError
+    from lumped.outputs import plot, to_csv
+
+    analysis = analyse(loads(SYMBOLIC))
+    with pytest.raises(NetlistError, match="R has no value"):
+        to_csv(analysis)
+    with pytest.raises(NetlistError, match="R has no value"):
+        plot(analysis, tmp_path / "p.png")

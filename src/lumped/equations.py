@@ -575,8 +575,7 @@ def _balance(rows: list[dict[int, list[sympy.Expr]]]) -> sympy.Rational:
 
 
 def _rational(value: sympy.Expr) -> sympy.Expr:
-    """A number as an exact rational (irrationals at 40 digits); expressions in parameters
-    unchanged."""
+    """A number as a rational (irrationals at 40 digits); expressions in parameters as they are."""
     if isinstance(value, int):
         return sympy.Integer(value)
     return rationalise(value) if value.is_number and not value.is_Rational else value

@@ -92,7 +92,14 @@ def _samples(analysis, count: int) -> tuple[np.ndarray, list[tuple[str, str, np.
 
 
 def to_csv(analysis, count: int = 2001) -> str:
-    """Sampled waveforms: a time column, then one column per quantity, units in the header."""
+    """Sampled waveforms: a time column, then one column per quantity, units in the header.
+
+    Raises
+    ------
+    NetlistError
+        When a watched response depends on a parameter without a value.
+    """
+    _refuse_unsampled(analysis, "CSV samples")
     times, columns = _samples(analysis, count)
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
@@ -283,7 +290,14 @@ def _scale(values: np.ndarray, unit: str) -> tuple[float, str]:
 
 
 def plot(analysis, path: Path, count: int = 2001) -> bytes:
-    """Draw one panel per unit; requirement limits dashed, peak and settling marked."""
+    """Draw one panel per unit; requirement limits dashed, peak and settling marked.
+
+    Raises
+    ------
+    NetlistError
+        When a watched response depends on a parameter without a value.
+    """
+    _refuse_unsampled(analysis, "a plot")
     import matplotlib
 
     matplotlib.use("Agg")
@@ -336,8 +350,7 @@ def plot(analysis, path: Path, count: int = 2001) -> bytes:
 
 
 def _refuse_unsampled(analysis, what: str) -> None:
-    """Waveform samples need numbers: refuse (before anything is written) when a watched
-    response still depends on a parameter without a value."""
+    """Refuse sampled output while a watched response depends on a parameter without a value."""
     from .equations import s
     from .parse import example_value
 
@@ -365,7 +378,7 @@ def emit(analysis, args) -> int:
                                         and os.environ.get("NO_COLOR") is None)
     files: list[tuple[Path, str | bytes]] = []
     count = max(2, int(args.samples))
-    for option in ("csv", "plot"):
+    for option in ("csv", "plot"):  # before anything is built, printed or written
         if getattr(args, option, None):
             _refuse_unsampled(analysis, f"--{option} {getattr(args, option)}")
     if args.json:

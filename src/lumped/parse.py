@@ -475,7 +475,6 @@ _INNER_WORDS = (
 
 
 def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, int] | None:
-
     lines = text.split("\n")
     if not 1 <= line <= len(lines):
         return None
@@ -897,10 +896,10 @@ class _ModelBuilder:
             want = describe(expected) if expected else "a plain number"
             if not result.dims:
                 message = f"{what} needs a unit: expected {want}, got a plain number"
-                hint = f"add the unit after the number, e.g. `{_example_for(unit)}`"
+                hint = f"add the unit after the number, e.g. `{example_value(unit)}`"
             else:
                 message = f"{what} must be in {want}, not {got}"
-                hint = f"write it in {want} (or a prefixed form), e.g. `{_example_for(unit)}`"
+                hint = f"write it in {want} (or a prefixed form), e.g. `{example_value(unit)}`"
             raise NetlistError(message, expr.location, hint=hint)
         value = result.value
         if _not_real(value):
@@ -1303,7 +1302,6 @@ def _unit_texts(expr: Expr) -> list[tuple[str, Location]]:
 
 def _check_rotation_units(expr: Expr, unit: str, what: str) -> None:
     """Hz and rad/s have the same dimensions; refuse the one that is off by 2 pi."""
-
     for text, where in _unit_texts(expr):
         words = re.findall(r"[A-Za-zµΩ°]+", text)
         angular = any(w in _ANGLE_WORDS for w in words)
@@ -1345,8 +1343,6 @@ def example_value(unit: str) -> str:
     """
     return _EXAMPLE_VALUES.get(unit, f"1 {unit}" if unit else "2")
 
-
-_example_for = example_value
 
 
 def _show(value: sympy.Expr) -> str:
