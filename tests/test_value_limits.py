@@ -215,3 +215,28 @@ def test_the_solver_scales_values_beyond_double_precision(capacitance):
 
     tf = assemble(net).transfer_function("V1", net.watches[0])
     assert tf.poles == (-1 / (1000 * capacitance),)
+
+
+# -- any accepted value: a clear answer, never an internal error -----------------------------
+
+from hypothesis import HealthCheck, given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+_MAGNITUDE = st.integers(-30, 29).flatmap(
+    lambda e: st.sampled_from(["1", "2.2", "4.7", "9.99"]).map(lambda m: f"{m}e{e}"))
+
+
+@settings(max_examples=25, deadline=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(r=_MAGNITUDE, l_value=_MAGNITUDE, c=_MAGNITUDE,
+       window=st.one_of(st.none(), _MAGNITUDE.filter(lambda w: float(w) <= 1e9)))
+def test_values_anywhere_in_range_end_in_a_clear_answer(tmp_path, r, l_value, c, window):
+    # Rule of the project (common practice, no source): accepted input never ends in exit 3.
+    text = (f"voltage source V1 at a step 5 V\nresistor R1 from a to b {r} ohm\n"
+            f"inductor L1 from b to out {l_value} H\ncapacitor C1 at out {c} F\n"
+            "watch voltage at out, current in L1\n"
+            + (f"window {window} s\n" if window else ""))
+    status, _, err = _run(tmp_path, text)
+    assert status in (0, 1, 2), err
+    if status == 2:
+        assert "rings with a period" in err, err
