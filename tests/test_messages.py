@@ -122,3 +122,21 @@ def test_a_bad_set_value_shows_its_own_line(tmp_path, setting, shown):
     assert status == 2
     assert err.startswith("--set R:1:")
     assert err.splitlines()[1].strip() == shown
+
+
+def test_a_unit_after_an_exponent_is_pointed_out(tmp_path):
+    status, err = _run(tmp_path, "resistor R at a 10^30 ohm\n")
+    assert status == 2
+    assert "an exponent must be a plain rational number" in err
+    assert "`(10^30) * 1 ohm`" in err
+
+
+def test_the_degree_sign_is_a_degree():
+    # 30° = pi/6 rad (definition of the degree).
+    import sympy
+
+    sign = loads("resistor R at a 1 ohm\nvoltage source V at a sine 1 V at 50 Hz phase 30 °\n")
+    word = loads("resistor R at a 1 ohm\nvoltage source V at a sine 1 V at 50 Hz phase 30 deg\n")
+    phase = sign.element("V").waveform.terms[0].phase
+    assert phase == word.element("V").waveform.terms[0].phase
+    assert sympy.simplify(phase - sympy.pi / 6) == 0

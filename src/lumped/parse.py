@@ -767,9 +767,15 @@ class _Scope:
                            multiply(left.dims, right.dims, -1))
         if op == "^":
             if right.dims or not right.value.is_Rational:
+                hint = "write a power without a unit, such as `^2` or `^-1`"
+                if isinstance(expr.args[1], Num) and expr.args[1].unit:
+                    # `10^30 ohm` reads as 10 to the power `30 ohm`.
+                    hint = (f"the unit went onto the exponent: write "
+                            f"`({_source_text(expr.args[0])}^{expr.args[1].value}) * 1 "
+                            f"{expr.args[1].unit}`")
                 raise NetlistError(
                     "an exponent must be a plain rational number", expr.args[1].location,
-                    hint="write a power without a unit, such as `^2` or `^-1`",
+                    hint=hint,
                 )
             exponent = Fraction(int(right.value.p), int(right.value.q))
             if abs(exponent) > 64:
@@ -822,6 +828,15 @@ class _Scope:
                 hint=exc.hint,
             ) from None
         return SIValue(value * factor, dims)
+
+
+def _source_text(expr: Expr) -> str:
+    """A short rendering of an arithmetic tree for hints (numbers and names as written)."""
+    if isinstance(expr, Num):
+        return expr.value + (f" {expr.unit}" if expr.unit else "")
+    if isinstance(expr, Name):
+        return expr.name
+    return "..."
 
 
 def _not_real(value: sympy.Expr) -> bool:
