@@ -240,3 +240,28 @@ def test_values_anywhere_in_range_end_in_a_clear_answer(tmp_path, r, l_value, c,
     assert status in (0, 1, 2), err
     if status == 2:
         assert "rings with a period" in err, err
+
+
+def test_one_irrational_number_is_one_rational_everywhere():
+    # (s + 1)(s^2 + 4 pi^2) expanded must still factor after pi is taken as a rational.
+    from lumped.exact import rationalise
+
+    s = sympy.Symbol("s")
+    expanded = sympy.expand((s + 1) * (s**2 + 4 * sympy.pi**2))
+    exact = rationalise(expanded)
+    assert sympy.rem(exact, s + 1, s) == 0
+    r = rationalise(sympy.pi)
+    assert sympy.expand(exact - (s + 1) * (s**2 + 4 * r**2)) == 0
+
+
+def test_a_sine_source_keeps_its_poles_on_the_imaginary_axis(tmp_path):
+    # A sine of f Hz has the poles +-j 2 pi f, on the axis (common practice); a slightly
+    # damped copy would stretch the chosen window to ~1e40 s.
+    text = ("voltage source V at a sine 1 V at 1 Hz\nresistor R from a to b 1 ohm\n"
+            "capacitor C at b 1 F\nwatch voltage at b\n")
+    from lumped.analysis import analyse
+
+    analysis = analyse(loads(text))
+    poles = [m.pole for m in analysis.results[0].time.modes]
+    assert sorted(p.real for p in poles) == [-1.0, 0.0]
+    assert analysis.stop < 100

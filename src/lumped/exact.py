@@ -30,8 +30,10 @@ NARROWEST_BAND = sympy.Rational(1, 10**8)
 def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr:
     """Replace irrational real numbers in ``expr`` by rationals of ``digits`` significant digits.
 
-    Symbols and the functions applied to them stay as they are; so does any
-    number that is not real (a complex constant is left for the caller to refuse).
+    Each irrational atom (``pi``, ``sqrt(2)``, ``cos(sin(7)/2)``) is replaced by
+    its rational; arithmetic on atoms is then redone exactly.  Symbols and the
+    functions applied to them stay as they are; so does any number that is not
+    real (a complex constant is left for the caller to refuse).
 
     Examples
     --------
@@ -45,7 +47,12 @@ def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr
     def walk(node: sympy.Basic) -> sympy.Basic:
         if node.is_Rational or node.is_Symbol or not isinstance(node, sympy.Expr):
             return node
-        if node.is_number:
+        arithmetic = node.is_Add or node.is_Mul or (node.is_Pow and node.exp.is_Integer)
+        if node.is_number and not arithmetic:
+            # An irrational atom (pi, sqrt(2), cos(1)): the same rational wherever it
+            # occurs, and sums and products of atoms are then formed exactly, so
+            # relations among coefficients survive (4*pi**2 is 4*r**2 everywhere,
+            # and (s + 1)(s**2 + 4*pi**2) still factors).
             if node.is_real is False:
                 return node
             value = node.evalf(digits + 5)
