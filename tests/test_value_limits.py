@@ -265,3 +265,41 @@ def test_a_sine_source_keeps_its_poles_on_the_imaginary_axis(tmp_path):
     poles = [m.pole for m in analysis.results[0].time.modes]
     assert sorted(p.real for p in poles) == [-1.0, 0.0]
     assert analysis.stop < 100
+
+
+EVERY_PLACE = {
+    "delay-initial-bounds": "voltage source V at a step 1 V after pi * 1 ms\n"
+    "resistor R from a to b 1 kohm\ncapacitor C at b 1 uF, initially sqrt(2) * 1 V\n"
+    "watch voltage at b\nrequire peak of voltage at b below sqrt(2) * 1 V\n"
+    "require final value of voltage at b between pi/4 * 1 V and pi * 1 V\n",
+    "pulse-and-window": "voltage source V at a pulse 1 V for sqrt(2) * 1 ms after sqrt(3) * 1 ms\n"
+    "resistor R from a to b 1 kohm\ncapacitor C at b 1 uF\nwatch voltage at b\n"
+    "window sqrt(2) * 1 ms to pi * 1 ms\n",
+    "sine-and-band": "voltage source V at a sine 1 V at 50*sqrt(2) * 1 Hz phase pi/5 * 1 rad "
+    "after pi * 1 ms\nresistor R from a to b 1 kohm\ncapacitor C at b 1 uF\n"
+    "watch voltage at b\nsettling band sqrt(2) * 1 %\n",
+    "exponential-ramp-impulse": "voltage source V at a exponential 1 V tau sqrt(2) * 1 ms "
+    "plus ramp sqrt(2) * 1 V/ms plus impulse pi * 1 mV*s\nresistor R from a to b 1 kohm\n"
+    "capacitor C at b 1 uF\nwatch voltage at b\n",
+    "gravity-and-drop": "mass m at body 350 kg\nspring K at body 22 kN/m\n"
+    "damper D at body 1.8 kN*s/m\ngravity sqrt(96) * 1 m/s^2\ndrop m from sqrt(2) * 1 m\n"
+    "watch displacement of body\n",
+    "bump": "mass m at body 350 kg\nspring K at body 22 kN/m\ndamper D at body 1.8 kN*s/m\n"
+    "displacement source X at road bump pi * 10 mm for sqrt(2) * 0.1 s\n"
+    "spring K2 from body to road 10 kN/m\nwatch displacement of body\n",
+    "rack-radius": "inertia J1 at x 1 kg*m^2\nmass m at y 1 kg\ndamper D at y 1 N*s/m\n"
+    "rack R from x to y radius pi * 1 mm\ntorque source T at x step 1 N*m\nwatch velocity of y\n",
+    "motor-constant": "voltage source V at a step 1 V\nresistor R from a to b 1 ohm\n"
+    "motor M from b to x constant sqrt(2) * 1 V*s/rad\ninertia J at x 1 kg*m^2\n"
+    "rotary damper B at x 0.1 N*m*s/rad\nwatch angular velocity of x\n",
+    "transformer-ratio": "voltage source V at a step 1 V\nresistor R from a to b 1 ohm\n"
+    "transformer T from b to c ratio sqrt(2)\nresistor R2 at c 1 ohm\n"
+    "capacitor C at c pi * 1 uF\nwatch voltage at c\n",
+}
+
+
+@pytest.mark.parametrize("text", list(EVERY_PLACE.values()), ids=list(EVERY_PLACE))
+def test_irrational_values_work_wherever_a_value_is_allowed(tmp_path, text):
+    status, out, err = _run(tmp_path, text)
+    assert status in (0, 1), err  # 1: a requirement judged and failed is an answer too
+    assert "irrational values taken to 40 significant digits" in " ".join(out.split())
