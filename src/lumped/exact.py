@@ -1,11 +1,15 @@
-"""Where irrational numbers become exact rationals, and the ranges values must lie in.
+"""Where irrational numbers become exact rationals, and the limits values must keep to.
 
 The algebra of the tool works over the rationals (and free parameters): the
 network matrix is solved over Z[s] and X(s) is inverted from rational
 polynomials.  Irrational numbers (``pi``, ``sqrt(2)``, ``cos(1)``) written in a
-netlist or handed to the inversion are replaced here, and only here, by the
-rational nearest to them at :data:`IRRATIONAL_DIGITS` significant digits.
-Parts that depend on a free parameter keep their symbols.
+netlist or handed to the inversion are replaced by :func:`rationalise`, and by
+nothing else, with the rational of :data:`IRRATIONAL_DIGITS` significant digits;
+parts that depend on a free parameter keep their symbols.  It is called where
+the algebra meets numbers: the solve of the network matrix and the inversion.
+
+The documented ranges of values (``grammar/language.md``) and the ringing limit
+(:func:`refuse_unresolvable`) live here too.
 """
 
 from __future__ import annotations
@@ -66,8 +70,13 @@ def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr
             return node  # nothing irrational below: no rebuilding of large expressions
         return node.func(*args)
 
-    return walk(sympy.sympify(expr) if not isinstance(expr, sympy.Basic) else expr)
-
+    if isinstance(expr, bool) or not isinstance(expr, (sympy.Basic, int, float)):
+        raise TypeError("rationalise takes a sympy expression or a Python number")
+    if isinstance(expr, int):
+        expr = sympy.Integer(expr)
+    elif isinstance(expr, float):
+        expr = sympy.Float(expr)
+    return walk(expr)
 
 
 # The most periods of one ringing mode a window may hold while the mode lasts.
