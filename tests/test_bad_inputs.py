@@ -46,7 +46,8 @@ LOCATED: list[tuple[str, bytes | str, str]] = [
      "takes no initial condition"),
     ("mass-between-two-nodes", "mass m from a to b 1 kg\n", "a mass always connects to the frame"),
     ("window-ends-before-start", R + "window 2 ms to 1 ms\n", "the window must end after it"),
-    ("settling-band-100-percent", R + "settling band 100 %\n", "settling band must be below 100"),
+    ("settling-band-100-percent", R + "settling band 100 %\n",
+     "it must lie between 1e-06 % and 50 %"),
     ("binary-bytes", random.Random(7).randbytes(3000) + b"\x00", "not UTF-8"),
     ("nul-byte", b"resistor R from a\x00 to ground 1 ohm\n", "control character"),
     ("invalid-utf8", b"resistor R from a to ground 1 \xffohm\n", "this is not UTF-8 text"),
@@ -77,7 +78,7 @@ LOCATED: list[tuple[str, bytes | str, str]] = [
 
 # Problems of the whole file: exit 2 and a clear message, but no line to point at.
 WHOLE_FILE: list[tuple[str, bytes | str, str]] = [
-    ("empty-file", b"", "the netlist has no elements"),
+    ("empty-file", b"", "bad.lumped is empty"),
     ("only-comments", "# a comment\n   # another\n\n", "the netlist has no elements"),
 ]
 
@@ -182,7 +183,7 @@ def test_bad_input_through_a_separate_process(tmp_path, case):
 def test_empty_file_through_a_separate_process(tmp_path):
     result = _subprocess(_write(tmp_path, b""))
     assert result.returncode == 2
-    assert result.stderr.startswith("the netlist has no elements")
+    assert result.stderr.startswith(f"{tmp_path / 'bad.lumped'} is empty")
     assert "Traceback" not in result.stderr
 
 

@@ -268,3 +268,75 @@ def test_mode_and_interface_types() -> None:
     assert mode.ringing_frequency == pytest.approx(2.0)
     assert mode.time_constant == pytest.approx(1.0)
     assert result.parameters == frozenset()
+
+
+# ---------------------------------------------------------------------------
+# irrational coefficients at the entry point
+# ---------------------------------------------------------------------------
+
+_A = sympy.cos(sympy.sin(7) / 2)  # the constant of sympy's own inverse-Laplace tests
+
+
+def _impulse_free(expr: sympy.Expr) -> sympy.Expr:
+    return expr.replace(lambda e: isinstance(e, sympy.DiracDelta), lambda e: sympy.Integer(0))
+
+
+def _impulse_weights(expr: sympy.Expr) -> dict:
+    weights: dict = {}
+    for term in sympy.Add.make_args(sympy.expand(expr)):
+        deltas = [f for f in sympy.Mul.make_args(term) if isinstance(f, sympy.DiracDelta)]
+        if deltas:
+            (delta,) = deltas
+            weights[delta] = weights.get(delta, 0) + term / delta
+    return weights
+
+
+@pytest.mark.parametrize("transform", [
+    _A * sympy.exp(-3 * s),
+    s**2 / (s**2 + _A**2),
+    1 / (s**2 + sympy.pi * s + sympy.sqrt(2)),
+    sympy.exp(-sympy.sqrt(3) * s) / (s + sympy.E),
+], ids=["constant-times-delay", "s2-over-s2-plus-a2", "pi-and-sqrt2", "irrational-delay"])
+def test_irrational_coefficients_agree_with_sympy(transform) -> None:
+    # Reference: sympy.inverse_laplace_transform run here (its own tests hold the first two).
+    tt = sympy.Symbol("t", positive=True)
+    expected = sympy.inverse_laplace_transform(transform, s, tt)
+    result = invert(transform, s, t=tt)
+    assert result.rounded
+    got_weights = _impulse_weights(result.expression)
+    want_weights = _impulse_weights(expected)
+    assert len(got_weights) == len(want_weights)
+    for delta, weight in want_weights.items():
+        match = [w for k, w in got_weights.items()
+                 if abs(float(k.args[0].subs(tt, 5) - delta.args[0].subs(tt, 5))) < 1e-30]
+        assert match and abs(float(match[0] - weight)) <= 1e-30 * abs(float(weight))
+    smooth_got = _impulse_free(result.expression)
+    smooth_want = _impulse_free(expected).subs(sympy.Heaviside(0), sympy.Rational(1, 2))
+    for time in (0.25, 1.0, 2.5, 4.0):
+        with mpmath.workdps(50):
+            want = sympy.N(smooth_want.subs(tt, sympy.Rational(str(time))), 45)
+            got = sympy.N(smooth_got.subs(tt, sympy.Rational(str(time))), 45)
+        assert abs(got - want) <= sympy.Float(10, 45) ** -30 * max(1, abs(want))
+
+
+def test_rational_coefficients_are_not_flagged_rounded() -> None:
+    assert not invert(1 / (s + 1), s).rounded
+
+
+@pytest.mark.parametrize("transform", [
+    1 / (sympy.sqrt(sympy.Symbol("a", positive=True)) * s + 1),
+    1 / (s * (s + sympy.sqrt(sympy.Symbol("a", positive=True) / 3))),
+    sympy.sqrt(sympy.Symbol("a", positive=True))
+    / (s + 1 + sympy.sqrt(1 + sympy.sqrt(sympy.Symbol("a", positive=True)))),
+], ids=["sqrt-a-times-s", "sqrt-of-a-ratio", "nested-roots"])
+def test_roots_of_parameters_keep_their_form(transform) -> None:
+    # Reference: sympy.inverse_laplace_transform run here, compared at a = 2 and t = 0.7.
+    tt = sympy.Symbol("t", positive=True)
+    a = sympy.Symbol("a", positive=True)
+    result = invert(transform, s, t=tt)
+    assert result.parameters == {a}
+    assert not any(isinstance(x, sympy.Dummy) for x in result.expression.free_symbols)
+    expected = sympy.inverse_laplace_transform(transform, s, tt)
+    point = {a: 2, tt: sympy.Rational(7, 10)}
+    assert float(result.expression.subs(point)) == pytest.approx(
+        float(expected.subs(point)), rel=1e-12)

@@ -28,6 +28,12 @@ import sympy
 
 from . import model as m
 from .equations import Response, Solution, assemble, s
+from .errors import UnknownQuantityError
+from .exact import (  # noqa: F401 - the first two stay importable from here
+    IRRATIONAL_DIGITS,
+    rationalise,
+    refuse_unresolvable,
+)
 from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from .inversion import ParametersNeeded, TimeResponse, invert
 from .topology import falling_masses, validate
@@ -35,9 +41,6 @@ from .units import STANDARD_GRAVITY
 
 # Extra-low-voltage limit for DC (common practice, from memory: 60 V ripple-free DC).
 ELV_DC_LIMIT = 60.0
-# Irrational numbers (pi from a sine's frequency, sqrt(2 g h) from a drop) are
-# carried into the inversion as rationals of this many significant digits.
-IRRATIONAL_DIGITS = 40
 _MAX_DISSIPATORS = 12
 
 GENERAL_CAUTION = (
@@ -112,36 +115,11 @@ class Analysis:
         for item in self.results:
             if item.quantity.label == label:
                 return item
-        raise KeyError(label)
-
-
-def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr:
-    """Replace irrational constants (pi, square roots) by rationals of ``digits`` digits.
-
-    Examples
-    --------
-    >>> x = sympy.Symbol("x")
-    >>> rationalise(sympy.pi * x, 5)
-    3927*x/1250
-    """
-
-    def walk(node: sympy.Expr) -> sympy.Expr:
-        if node.is_Rational or node.is_Symbol:
-            return node
-        if node.is_number:
-            value = sympy.Float(node.evalf(digits + 5), digits)
-            if value.is_real is False or node.is_real is False:
-                return node
-            return sympy.Rational(str(value))
-        if not node.args:
-            return node
-        return node.func(*[walk(arg) for arg in node.args])
-
-    return walk(expr)
+        raise UnknownQuantityError(label, [item.quantity.label for item in self.results])
 
 
 def _invert(response: Response) -> TimeResponse:
-    return invert(rationalise(response.transform), s)
+    return invert(response.transform, s)  # invert makes irrational numbers rational
 
 
 def _network_pole_test(solution: Solution):
@@ -285,6 +263,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
                                                    netlist)
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
+    refuse_unresolvable(netlist, times, start, stop)  # never leave the figures running
     band = float(netlist.settling_band)
     own_pole = _network_pole_test(solution)
     results = []

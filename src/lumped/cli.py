@@ -113,6 +113,18 @@ def _run(args: argparse.Namespace) -> int:
         raise NetlistError(f"--samples {args.samples}: give between 2 and 10000000 points",
                            hint="2001 (the default) is plenty for a plot")
     api.check_outputs(source, outputs)
+    try:
+        return _solve(args, source)
+    except NetlistError as error:
+        # A problem of the whole netlist (no line to point at) still names the file.
+        if error.location is None and not error.message.startswith(str(source)):
+            error.message = f"{source}: {error.message}"
+        raise
+
+
+def _solve(args: argparse.Namespace, source: Path) -> int:
+    from . import api
+
     values = {}
     for setting in args.set:
         name, equals, value = setting.partition("=")

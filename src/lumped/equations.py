@@ -69,6 +69,7 @@ from sympy.polys.matrices.exceptions import DMNonInvertibleMatrixError
 
 from . import waveforms
 from .errors import SolveError, ValidationError
+from .exact import rationalise
 from .model import (
     FRAME,
     GROUND,
@@ -572,10 +573,22 @@ def _balance(rows: list[dict[int, list[sympy.Expr]]]) -> sympy.Rational:
         c0 = max((abs(e[0]) for e in row.values()), default=0)
         c1 = max((abs(e[1]) for e in row.values()), default=0)
         if c0 != 0 and c1 != 0:
-            logs.append(math.log10(c0 / c1))
+            logs.append(_log10(c0) - _log10(c1))
     if not logs:
         return sympy.Integer(1)
     return sympy.Integer(10) ** round(sum(logs) / len(logs))
+
+
+def _rational(value: sympy.Expr) -> sympy.Expr:
+    """A number as a rational (irrationals at 40 digits); expressions in parameters as they are."""
+    if isinstance(value, int):
+        return sympy.Integer(value)
+    return rationalise(value) if value.is_number and not value.is_Rational else value
+
+
+def _log10(value: sympy.Rational) -> float:
+    """log10 of a positive rational of any size (a float quotient would overflow)."""
+    return math.log10(int(value.p)) - math.log10(int(value.q))
 
 
 _PRIMES: list[int] = []
@@ -1577,10 +1590,17 @@ def _singular_message(plan: _Plan, support: Sequence[int]) -> str:
 def _solve(plan: _Plan) -> tuple[sympy.Poly, list[list[sympy.Poly]]]:
     b = plan.builder
     n = len(b.unknowns)
-    numeric = all(_is_number(c) for row in b.rows for e in row.values() for c in e)
-    sigma = _balance(b.rows) if numeric else sympy.Integer(1)
-    scaled = [{j: [e[0], e[1] * sigma] for j, e in row.items()} for row in b.rows]
-    rows, columns, integral = _scaled_rows(scaled, b.inputs)
+    # The one place where the network's numbers enter the algebra: an irrational
+    # number (pi, sqrt(2)) becomes its rational at IRRATIONAL_DIGITS digits; an
+    # entry holding a free parameter stays exact (the symbolic path keeps it).
+    entries = [{j: [_rational(e[0]), _rational(e[1])] for j, e in row.items()}
+               for row in b.rows]
+    inputs = [replace(inp, column={r: _rational(v) for r, v in inp.column.items()})
+              for inp in b.inputs]
+    numeric = all(_is_number(c) for row in entries for e in row.values() for c in e)
+    sigma = _balance(entries) if numeric else sympy.Integer(1)
+    scaled = [{j: [e[0], e[1] * sigma] for j, e in row.items()} for row in entries]
+    rows, columns, integral = _scaled_rows(scaled, inputs)
     try:
         if integral:
             den, nums = _solve_numeric(rows, columns, n)

@@ -109,6 +109,28 @@ class ValidationError(NetlistError):
     """The netlist parsed but describes a network that cannot be solved."""
 
 
+class UnknownQuantityError(LumpedError, KeyError):
+    """A quantity label the analysis has no result for; the message lists those it has.
+
+    Also a :class:`KeyError`, as for any lookup by a missing key.
+
+    Examples
+    --------
+    >>> print(UnknownQuantityError("voltage at x", ["voltage at out"]))
+    no result for 'voltage at x'; the quantities are: 'voltage at out'
+    """
+
+    def __init__(self, label: str, known: list[str]) -> None:
+        shown = ", ".join(repr(k) for k in known) or "none"
+        self.message = f"no result for {label!r}; the quantities are: {shown}"
+        self.label = label
+        self.known = tuple(known)
+        super().__init__(self.message)
+
+    def __str__(self) -> str:
+        return self.message
+
+
 class SolveError(LumpedError):
     """The equations have no unique solution; the message names the elements."""
 

@@ -36,6 +36,8 @@ import sympy
 from flint import acb, acb_poly, ctx, fmpq, fmpq_poly, fmpz_poly
 from sympy.core.parameters import distribute
 
+from .exact import IRRATIONAL_DIGITS, rationalise
+
 __all__ = ["Impulse", "Mode", "ParametersNeeded", "TimeResponse", "invert"]
 
 #: Default time symbol used when ``invert`` is called without ``t``.
@@ -285,6 +287,9 @@ class TimeResponse:
         Time symbol.
     digits : int
         Significant digits of numeric results.
+    rounded : bool
+        True when irrational numbers in the transform were taken as rationals of
+        :data:`lumped.exact.IRRATIONAL_DIGITS` significant digits.
     """
 
     modes: tuple[Mode, ...]
@@ -294,13 +299,19 @@ class TimeResponse:
     s: sympy.Symbol
     t: sympy.Symbol
     digits: int = 30
+    rounded: bool = False
     _groups: tuple[_Group, ...] = field(default=(), repr=False, compare=False)
     _numeric: tuple[_NumericGroup, ...] | None = field(default=None, repr=False, compare=False)
+    _restore: tuple = field(default=(), repr=False, compare=False)
 
     @functools.cached_property
     def expression(self) -> sympy.Expr:
         """The closed form, built on first use: numbers alone never need it."""
-        return sympy.Add(*[_render_group(g, self.t, False) for g in self._groups])
+        return self._restored(sympy.Add(*[_render_group(g, self.t, False)
+                                          for g in self._groups]))
+
+    def _restored(self, expr: sympy.Expr) -> sympy.Expr:
+        return expr.xreplace(dict(self._restore)) if self._restore else expr
 
     def amplitude_phase(self) -> sympy.Expr:
         """Closed form with each damped sinusoid as ``M e^{sigma t} cos(w t + phi)``.
@@ -317,7 +328,8 @@ class TimeResponse:
         >>> r.amplitude_phase()
         exp(-t)*cos(2*t - pi/2)/2
         """
-        return sympy.Add(*[_render_group(g, self.t, True) for g in self._groups])
+        return self._restored(sympy.Add(*[_render_group(g, self.t, True)
+                                          for g in self._groups]))
 
     def substitute(self, values: dict) -> TimeResponse:
         """Give parameters values and invert again.
@@ -539,6 +551,18 @@ def _direct_sum(tau: np.ndarray, poles: np.ndarray, matrix: np.ndarray) -> np.nd
 # ---------------------------------------------------------------------------
 # splitting X(s) into delay groups
 # ---------------------------------------------------------------------------
+
+
+def _parameter_radicals(expr: sympy.Expr, s: sympy.Symbol) -> set:
+    """Parts of ``expr`` that depend on parameters but are not polynomial in them."""
+    found = set()
+    for node in sympy.preorder_traversal(expr):
+        if not isinstance(node, sympy.Expr) or node.has(s) or not node.free_symbols:
+            continue
+        if (node.is_Pow and not node.exp.is_Integer) or isinstance(node, sympy.Function):
+            found.add(node)
+    # Keep the outermost ones: sqrt(1 + sqrt(n)) stands in whole.
+    return {a for a in found if not any(a != b and b.has(a) for b in found)}
 
 
 def _exact_number(value: Any) -> sympy.Expr:
@@ -1141,9 +1165,9 @@ def invert(
     Parameters
     ----------
     transform : sympy.Expr
-        The transform; each ``R_k`` rational in ``s`` with exact coefficients
-        (floats are converted to exact rationals), possibly with parameters;
-        each ``T_k >= 0``.
+        The transform; each ``R_k`` rational in ``s``, possibly with parameters;
+        each ``T_k >= 0``.  Floats are taken at their decimal value, irrational
+        numbers (``pi``, ``sqrt(2)``) as rationals of 40 significant digits.
     s : sympy.Symbol
         The Laplace variable.
     t : sympy.Symbol, optional
@@ -1178,7 +1202,22 @@ def invert(
     if t is None:
         t = DEFAULT_T
     expr = _exact_number(transform)
+    # Irrational coefficients (pi, sqrt(2), cos(sin(7)/2)) become rationals of
+    # IRRATIONAL_DIGITS significant digits (more when more digits are asked for):
+    # the residue machinery works over the rationals.
+    exact = rationalise(expr, max(IRRATIONAL_DIGITS, digits + 10))
+    rounded = exact != expr
+    expr = exact
     parameters = frozenset(expr.free_symbols - {s})
+    # Roots and other functions of parameters (sqrt(L/C)) stand in as symbols of
+    # their own while the algebra runs over Q(parameters); the closed form gets
+    # them back.  Identities over that larger field hold for the actual values.
+    stand_ins: dict = {}
+    while radicals := _parameter_radicals(expr, s):  # outermost first, then what is left
+        fresh = {atom: sympy.Dummy(f"p{len(stand_ins) + k}", positive=True)
+                 for k, atom in enumerate(sorted(radicals, key=sympy.default_sort_key))}
+        expr = expr.xreplace(fresh)
+        stand_ins.update(fresh)
 
     groups_raw = _split_delays(expr, s)
     groups: list[_Group] = []
@@ -1221,6 +1260,8 @@ def invert(
         s=s,
         t=t,
         digits=digits,
+        rounded=rounded,
+        _restore=tuple((dummy, atom) for atom, dummy in stand_ins.items()),
         _groups=tuple(groups),
         _numeric=tuple(numerics) if numerics is not None else None,
     )

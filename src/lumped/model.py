@@ -419,6 +419,8 @@ class Netlist:
     settling_band: sympy.Expr = field(default_factory=lambda: sympy.Rational(2, 100))
     gravity: Gravity | None = None
     drops: tuple[Drop, ...] = ()
+    # Where a value is irrational (pi, sqrt(2)): the algebra takes it at 40 digits.
+    rounded: tuple[Location, ...] = ()
 
     def element(self, name: str) -> Element | None:
         for element in self.elements:

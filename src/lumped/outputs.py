@@ -92,7 +92,14 @@ def _samples(analysis, count: int) -> tuple[np.ndarray, list[tuple[str, str, np.
 
 
 def to_csv(analysis, count: int = 2001) -> str:
-    """Sampled waveforms: a time column, then one column per quantity, units in the header."""
+    """Sampled waveforms: a time column, then one column per quantity, units in the header.
+
+    Raises
+    ------
+    NetlistError
+        When a watched response depends on a parameter without a value.
+    """
+    _refuse_unsampled(analysis, "CSV samples")
     times, columns = _samples(analysis, count)
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
@@ -292,7 +299,14 @@ def _identifier(text: str) -> str:
 
 
 def plot(analysis, path: Path, count: int = 2001) -> bytes:
-    """Draw one panel per unit; requirement limits dashed, extremes and settling marked."""
+    """Draw one panel per unit; requirement limits dashed, extremes and settling marked.
+
+    Raises
+    ------
+    NetlistError
+        When a watched response depends on a parameter without a value.
+    """
+    _refuse_unsampled(analysis, "a plot")
     import matplotlib
 
     matplotlib.use("Agg")
@@ -349,12 +363,38 @@ def plot(analysis, path: Path, count: int = 2001) -> bytes:
     return buffer.getvalue()
 
 
+def _refuse_unsampled(analysis, what: str) -> None:
+    """Refuse sampled output while a watched response depends on a parameter without a value."""
+    from .equations import s
+    from .parse import example_value
+
+    needed = set()
+    for result in analysis.results:
+        if result.time is None or result.time.parameters:
+            needed |= result.response.transform.free_symbols - {s}
+    if not needed:
+        return
+    names = sorted(str(x) for x in needed)
+    units = {p.name: p.unit for p in analysis.netlist.parameters}
+    settings = " ".join(f"--set \"{name}={example_value(units.get(name, ''))}\""
+                        for name in names)
+    raise NetlistError(
+        f"{what}: the waveforms cannot be sampled while {', '.join(names)} "
+        f"{'has' if len(names) == 1 else 'have'} no value",
+        hint=f"give {'it a value' if len(names) == 1 else 'them values'}, e.g. {settings}; "
+        "the text report, --json and --latex keep the closed forms in the parameters",
+    )
+
+
 def emit(analysis, args) -> int:
     """Print the report, write the requested files; exit 0 pass, 1 a requirement fails."""
     colour = args.color == "always" or (args.color == "auto" and sys.stdout.isatty()
                                         and os.environ.get("NO_COLOR") is None)
     files: list[tuple[Path, str | bytes]] = []
     count = max(2, int(args.samples))
+    for option in ("csv", "plot"):  # before anything is built, printed or written
+        if getattr(args, option, None):
+            _refuse_unsampled(analysis, f"--{option} {getattr(args, option)}")
     if args.json:
         files.append((Path(args.json), to_json(analysis)))
     if args.csv:

@@ -10,6 +10,8 @@ magnitude with its dimensions checked against what the element needs.
 from __future__ import annotations
 
 import difflib
+import math
+import re
 from dataclasses import dataclass
 from fractions import Fraction
 from functools import cache
@@ -28,6 +30,14 @@ from lark.exceptions import (
 
 from . import model as m
 from .errors import Location, NetlistError
+from .exact import (
+    LARGEST_VALUE,
+    LONGEST_WINDOW,
+    NARROWEST_BAND,
+    SMALLEST_VALUE,
+    WIDEST_BAND,
+    rationalise,
+)
 from .units import (
     DIMENSIONLESS,
     STANDARD_GRAVITY,
@@ -366,22 +376,47 @@ def _error_key(error: UnexpectedInput) -> tuple:
     return position, frozenset(accepts)
 
 
+def _token_type(error: UnexpectedInput) -> str:
+    token = getattr(error, "token", None)
+    return "$END" if token is None else str(token.type)
+
+
 @cache
-def _example_keys() -> dict[tuple, str]:
-    """Parser states reached by the example slips, each mapped to its label."""
-    keys: dict[tuple, str] = {}
+def _example_keys() -> tuple[dict[tuple, str], dict[tuple, str]]:
+    """Parser states reached by the example slips, each mapped to its label.
+
+    Two slips can stop the parser in the same state and differ only in the
+    token met there (`resistor R1 2 ohm from` and `resistor from a to b`, where
+    `from` was taken as the name): the first map keys on the token too, the
+    second on the state alone for slips the examples do not spell out.
+    """
+    exact: dict[tuple, str] = {}
+    by_state: dict[tuple, str] = {}
     for label, examples in _EXAMPLES.items():
         for example in examples:
             try:
                 parser().parse(example)
             except UnexpectedInput as error:
-                keys.setdefault(_error_key(error), label)
-    return keys
+                exact.setdefault((*_error_key(error), _token_type(error)), label)
+                by_state.setdefault(_error_key(error), label)
+    return exact, by_state
 
 
-def _classify(error: UnexpectedInput) -> str | None:
+_MISSING_NAME = "missing name"
+_NOT_NAMED = {"let", "watch", "window", "require", "settling band", "gravity", "drop"}
+# A placement word where the name should be: the parser takes the word as the name.
+_NAME_IS_A_PLACEMENT = re.compile(
+    r"^[ \t]*(?:" + "|".join(k.replace(" ", r"[ \t]+") for k in sorted(
+        set(KEYWORDS) - _NOT_NAMED, key=len, reverse=True)) + r")[ \t]+(?:from|at|on)[ \t]")
+
+
+def _classify(error: UnexpectedInput, line_text: str = "") -> str | None:
     """Match an error against the example slips by the parser state they reach."""
-    return _example_keys().get(_error_key(error))
+    if _NAME_IS_A_PLACEMENT.match(line_text):
+        return next(label for label in _EXAMPLES if label.startswith(_MISSING_NAME))
+    exact, by_state = _example_keys()
+    key = _error_key(error)
+    return exact.get((*key, _token_type(error))) or by_state.get(key)
 
 
 def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistError:
@@ -395,6 +430,22 @@ def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistE
         column = len(lines[-1]) + 1
     if token is not None and token.type not in ("$END", "_NL"):
         width = max(1, len(str(token)))
+    stray = _unit_after_expression(text, line, column)
+    if stray is not None:
+        word, before = stray
+        return NetlistError(
+            f"the unit '{word}' follows {before}, not a number",
+            Location(source, line, column, len(word)),
+            hint=f"a unit goes right after a number; multiply instead: `... * 1 {word}`",
+        ).with_text(text)
+    spaced = _spaced_unit(text, line, column)
+    if spaced is not None:
+        written, joined, start = spaced
+        return NetlistError(
+            f"a space inside the unit '{written}'",
+            Location(source, line, start, len(written)),
+            hint=f"write units without spaces: `{joined}`",
+        ).with_text(text)
     misspelt = _misspelt_word_before(text, line, column)
     if misspelt is not None:
         word, keyword, word_column = misspelt
@@ -402,7 +453,8 @@ def _error_from_lark(error: UnexpectedInput, text: str, source: str) -> NetlistE
             f"unknown word '{word}'", Location(source, line, word_column, len(word)),
             hint=f"did you mean '{keyword}'?",
         ).with_text(text)
-    label = _classify(error)
+    lines = text.split("\n")
+    label = _classify(error, lines[line - 1] if 1 <= line <= len(lines) else "")
     if label is not None:
         what, hint = label.split(": ", 1)
         found = _describe_token(token, error)
@@ -423,8 +475,6 @@ _INNER_WORDS = (
 
 
 def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, int] | None:
-    import re
-
     lines = text.split("\n")
     if not 1 <= line <= len(lines):
         return None
@@ -442,6 +492,52 @@ def _misspelt_word_before(text: str, line: int, column: int) -> tuple[str, str, 
         if close and len(word) >= 2:
             return word, close[0], match.start() + 1
     return None
+
+
+_NUMBER_THEN_WORDS = re.compile(
+    r"(\d+(?:\.\d*)?(?:[eE][-+]?\d+)?|\.\d+(?:[eE][-+]?\d+)?)[ \t]+"
+    r"((?:[A-Za-zµΩ°%][^\s#()]*[ \t]+)+)$")
+
+
+def _unit_after_expression(text: str, line: int, column: int) -> tuple[str, str] | None:
+    """`sqrt(2) ohm`, `pi rad`: a unit after something other than a number."""
+    lines = text.split("\n")
+    if not 1 <= line <= len(lines):
+        return None
+    here = lines[line - 1]
+    word = re.match(r"[A-Za-zµΩ°%][A-Za-z0-9µΩ°_*/^.-]*", here[column - 1 :])
+    before = here[: column - 1].rstrip()
+    if word is None or not _is_unit(word.group(0)):
+        return None
+    if before.endswith(")"):
+        return word.group(0), "a closing parenthesis"
+    if re.search(r"(?<![A-Za-z0-9_])pi$", before):
+        return word.group(0), "pi"
+    return None
+
+
+def _spaced_unit(text: str, line: int, column: int) -> tuple[str, str, int] | None:
+    """`1 k ohm`, `2 m V`: a number followed by a unit split by spaces, read as one.
+
+    Returns the unit as written, the number with the unit joined, and its column.
+    """
+    lines = text.split("\n")
+    if not 1 <= line <= len(lines):
+        return None
+    here = lines[line - 1]
+    found = _NUMBER_THEN_WORDS.search(here[: column - 1])
+    word = re.match(r"[A-Za-zµΩ°%][^\s#()]*", here[column - 1 :])
+    if found is None or word is None:
+        return None
+    pieces = [*found.group(2).split(), word.group(0)]
+    joined = "".join(pieces)
+    try:
+        parse_unit(joined)
+    except UnitError:
+        return None
+    start = found.start(2) + 1
+    written = here[start - 1 : column - 1 + len(word.group(0))]
+    return written, f"{found.group(1)} {joined}", start
 
 
 def _describe_token(token, error) -> str:
@@ -624,6 +720,9 @@ class _Scope:
                     if close
                     else f"define it first with `let {expr.name} = ...`"
                 )
+                if _is_unit(expr.name):
+                    hint = (f"'{expr.name}' is a unit: write it right after a number "
+                            f"(`2 {expr.name}`), or multiply by one (`... * 1 {expr.name}`)")
                 raise NetlistError(f"unknown parameter '{expr.name}'", expr.location, hint=hint)
             return self.values[expr.name]
         op = expr.op
@@ -641,7 +740,7 @@ class _Scope:
                     expr.location,
                     hint="take roots of quantities whose units are squares",
                 )
-            if inner.value.is_number and inner.value.is_negative:
+            if inner.value.is_negative:  # a number, or -n with n a (positive) parameter
                 raise NetlistError("square root of a negative value", expr.location,
                                    hint="the value under sqrt(...) must not be negative")
             return SIValue(sympy.sqrt(inner.value), dims)
@@ -668,9 +767,15 @@ class _Scope:
                            multiply(left.dims, right.dims, -1))
         if op == "^":
             if right.dims or not right.value.is_Rational:
+                hint = "write a power without a unit, such as `^2` or `^-1`"
+                if isinstance(expr.args[1], Num) and expr.args[1].unit:
+                    # `10^30 ohm` reads as 10 to the power `30 ohm`.
+                    hint = (f"the unit went onto the exponent: write "
+                            f"`({_source_text(expr.args[0])}^{expr.args[1].value}) * 1 "
+                            f"{expr.args[1].unit}`")
                 raise NetlistError(
                     "an exponent must be a plain rational number", expr.args[1].location,
-                    hint="write a power without a unit, such as `^2` or `^-1`",
+                    hint=hint,
                 )
             exponent = Fraction(int(right.value.p), int(right.value.q))
             if abs(exponent) > 64:
@@ -681,6 +786,13 @@ class _Scope:
                 raise NetlistError(
                     f"{describe(left.dims)} to the power {exponent} has no unit", expr.location,
                     hint="a fractional power needs a unit whose exponents it divides",
+                )
+            if exponent.denominator != 1 and (
+                    left.value.is_negative or left.value.is_real is False):
+                raise NetlistError(
+                    f"{_show(left.value)} to the power {exponent} is not a real number",
+                    expr.location,
+                    hint="a fractional power needs a value that is not negative",
                 )
             if left.value == 0 and exponent < 0:
                 raise NetlistError("division by zero", expr.location,
@@ -716,6 +828,30 @@ class _Scope:
                 hint=exc.hint,
             ) from None
         return SIValue(value * factor, dims)
+
+
+def _source_text(expr: Expr) -> str:
+    """A short rendering of an arithmetic tree for hints (numbers and names as written)."""
+    if isinstance(expr, Num):
+        return expr.value + (f" {expr.unit}" if expr.unit else "")
+    if isinstance(expr, Name):
+        return expr.name
+    return "..."
+
+
+def _not_real(value: sympy.Expr) -> bool:
+    """True when a value is complex: sqrt(-2), (-8)^(1/3), or such a factor times a parameter."""
+    if value.is_real is False or value.has(sympy.I):
+        return True
+    return any(p.is_number and p.is_real is False for p in value.atoms(sympy.Pow))
+
+
+def _is_unit(word: str) -> bool:
+    try:
+        parse_unit(word)
+    except UnitError:
+        return False
+    return True
 
 
 def _bits(value: sympy.Expr) -> int:
@@ -755,9 +891,18 @@ class _ModelBuilder:
         self.text = text
         self.scope = _Scope(source)
         self.overrides = overrides or {}
+        self.rounded: list[Location] = []
 
     def value(self, expr: Expr, unit: str, what: str, *, positive: bool = False,
-              number: bool = False) -> sympy.Expr:
+              number: bool = False, hint: str = "a physical element has a positive value",
+              largest: sympy.Expr = LARGEST_VALUE, ranged: bool = True) -> sympy.Expr:
+        """The exact SI value of ``expr``, checked for its unit, reality and range.
+
+        Every value read from the text passes here: it must be real and lie in
+        the documented range (:mod:`lumped.exact`).  Values stay exact (``pi``
+        stays ``pi``); where one is irrational its place is noted, since the
+        algebra takes it at :data:`~lumped.exact.IRRATIONAL_DIGITS` digits.
+        """
         expected = dims_of(unit)
         _check_rotation_units(expr, unit, what)
         result = self.scope.evaluate(expr, expected)
@@ -766,12 +911,15 @@ class _ModelBuilder:
             want = describe(expected) if expected else "a plain number"
             if not result.dims:
                 message = f"{what} needs a unit: expected {want}, got a plain number"
-                hint = f"add the unit after the number, e.g. `{_example_for(unit)}`"
+                hint = f"add the unit after the number, e.g. `{example_value(unit)}`"
             else:
                 message = f"{what} must be in {want}, not {got}"
-                hint = f"write it in {want} (or a prefixed form), e.g. `{_example_for(unit)}`"
+                hint = f"write it in {want} (or a prefixed form), e.g. `{example_value(unit)}`"
             raise NetlistError(message, expr.location, hint=hint)
         value = result.value
+        if _not_real(value):
+            raise NetlistError(f"{what} is not a real number ({value})", expr.location,
+                               hint="check the signs under roots and fractional powers")
         if number and value.free_symbols:
             names = ", ".join(sorted(str(x) for x in value.free_symbols))
             raise NetlistError(
@@ -779,11 +927,39 @@ class _ModelBuilder:
                 expr.location,
                 hint="give the parameter a value with `let` or `--set NAME=VALUE`",
             )
+        if value.is_number:
+            value = self._checked_number(value, expr, unit, what,
+                                         largest if ranged else sympy.oo, positive and ranged)
         if positive and value.is_number and not (value > 0):
             raise NetlistError(
                 f"{what} must be greater than zero, not {_show(value)}",
                 expr.location,
-                hint="a physical element has a positive value",
+                hint=hint,
+            )
+        return value
+
+    def _checked_number(self, value: sympy.Expr, expr: Expr, unit: str, what: str,
+                        largest: sympy.Expr, positive: bool) -> sympy.Expr:
+        """A real number within the accepted range (irrational ones are noted)."""
+        # Checked at 40 digits; the model keeps the exact value (pi stays pi) and the
+        # algebra takes irrational numbers as rationals where it meets them.
+        exact = rationalise(value)
+        if not exact.is_Rational:  # nothing the grammar builds, but never pass it on
+            raise NetlistError(f"{what} cannot be worked out as a number ({value})",
+                               expr.location, hint="simplify the expression")
+        if exact != value:
+            self.rounded.append(expr.location)
+        # A physical size (positive) lies within the range; a signed value (an
+        # amplitude, an initial condition, a bound) may also be zero or tiny.
+        smallest = SMALLEST_VALUE if positive else 0
+        if exact != 0 and not smallest <= abs(exact) <= largest:
+            shown = describe(dims_of(unit)) if unit else ""
+            raise NetlistError(
+                f"{what} is {_show(exact)}{' ' + shown if shown else ''}, outside the range "
+                f"the tool accepts: {float(smallest):g} to {float(largest):g}"
+                f"{' ' + shown if shown else ''} in magnitude",
+                expr.location,
+                hint="check the power of ten and the unit prefix",
             )
         return value
 
@@ -841,6 +1017,7 @@ class _ModelBuilder:
             settling_band=band,
             gravity=gravity,
             drops=tuple(drops),
+            rounded=tuple(self.rounded),
         )
 
     def _parameters(self, statements: list[RawStatement]) -> list[m.Parameter]:
@@ -1059,12 +1236,16 @@ class _ModelBuilder:
         return m.Quantity(kind, str(raw["target"]), raw["preposition"], raw["location"])
 
     def _window(self, children, loc: Location) -> m.Window:
+        longer = "a window is a length of time above zero, e.g. `window 10 ms`"
         if len(children) == 1:
             start = sympy.Integer(0)
-            stop = self.value(children[0], "s", "the window", positive=True, number=True)
+            stop = self.value(children[0], "s", "the window", positive=True, number=True,
+                              hint=longer, largest=LONGEST_WINDOW)
         else:
-            start = self.value(children[0], "s", "the window start", number=True)
-            stop = self.value(children[1], "s", "the window end", positive=True, number=True)
+            start = self.value(children[0], "s", "the window start", number=True,
+                               largest=LONGEST_WINDOW)
+            stop = self.value(children[1], "s", "the window end", positive=True, number=True,
+                              hint=longer, largest=LONGEST_WINDOW)
         if start.is_number and start < 0:
             raise NetlistError("the window cannot start before t = 0", children[0].location,
                                hint="write `window START to STOP` with START >= 0")
@@ -1074,10 +1255,13 @@ class _ModelBuilder:
         return m.Window(start, stop, loc)
 
     def _band(self, expr: Expr) -> sympy.Expr:
-        band = self.value(expr, "", "the settling band", positive=True, number=True)
-        if band.is_number and not band < 1:
-            raise NetlistError("the settling band must be below 100 %", expr.location,
-                               hint="a band such as `2 %` or `5 %`")
+        band = self.value(expr, "", "the settling band", positive=True, number=True,
+                          hint="a band such as `2 %` or `5 %`", ranged=False)
+        if not NARROWEST_BAND <= band <= WIDEST_BAND:
+            raise NetlistError(
+                f"the settling band is {_show(100 * band)} %; it must lie between "
+                f"{float(100 * NARROWEST_BAND):g} % and {float(100 * WIDEST_BAND):g} %",
+                expr.location, hint="a band such as `2 %` or `5 %`")
         return band
 
     def _requirement(self, children, loc: Location) -> m.Requirement:
@@ -1133,8 +1317,6 @@ def _unit_texts(expr: Expr) -> list[tuple[str, Location]]:
 
 def _check_rotation_units(expr: Expr, unit: str, what: str) -> None:
     """Hz and rad/s have the same dimensions; refuse the one that is off by 2 pi."""
-    import re
-
     for text, where in _unit_texts(expr):
         words = re.findall(r"[A-Za-zµΩ°]+", text)
         angular = any(w in _ANGLE_WORDS for w in words)
@@ -1166,15 +1348,26 @@ _EXAMPLE_VALUES = {
 }
 
 
-def _example_for(unit: str) -> str:
+def example_value(unit: str) -> str:
+    """A sample value with a unit of the given SI unit's kind, for hints.
+
+    Examples
+    --------
+    >>> example_value("ohm")
+    '2.2 kohm'
+    """
     return _EXAMPLE_VALUES.get(unit, f"1 {unit}" if unit else "2")
+
 
 
 def _show(value: sympy.Expr) -> str:
     try:
-        return f"{float(value):g}"
+        number = float(value)
     except TypeError:
         return str(value)
+    if value != 0 and (number == 0 or not math.isfinite(number)):
+        return str(sympy.Float(value, 3))  # beyond double precision: sympy's own digits
+    return f"{number:g}"
 
 
 # ---------------------------------------------------------------------------
@@ -1239,6 +1432,10 @@ def parse_text(text: str | bytes, source: str = "<text>",
     2200
     """
     prepared = _prepare(text, source)
+    if not prepared.strip():
+        raise NetlistError(f"{source} is empty",
+                           hint="write the network one statement a line, e.g. `resistor R1 "
+                           "from a to ground 1 kohm`; `lumped --syntax` shows the language")
     try:
         tree = parser().parse(prepared)
     except UnexpectedInput as error:
@@ -1252,6 +1449,10 @@ def parse_text(text: str | bytes, source: str = "<text>",
         overrides = _override_expressions(values) if values else None
         return _ModelBuilder(source, prepared, overrides).build(statements)
     except NetlistError as error:
+        where = error.location.source if error.location is not None else source
+        name = where.removeprefix("--set ")
+        if values and where != source and name in values:
+            raise error.with_text(f"let {name} = {values[name]}") from None  # a --set value
         raise error.with_text(prepared) from None
     except RecursionError:
         raise NetlistError(

@@ -7,6 +7,7 @@ import math
 import sympy
 
 from . import model as m
+from .exact import IRRATIONAL_DIGITS
 
 _PREFIXES = [
     (1e12, "T"), (1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"),
@@ -448,6 +449,13 @@ def verdict_line(verdict, colour=lambda text, _style: text) -> str:
     return f"  {mark}  {what} (line {line})\n        {got}"
 
 
+def _rounded(analysis) -> bool:
+    """True when an irrational number (pi, sqrt(2)) was taken as a rational somewhere."""
+    return bool(getattr(analysis.netlist, "rounded", ())) or any(
+        result.time is not None and getattr(result.time, "rounded", False)
+        for result in analysis.results)
+
+
 def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
     """The plain-text report of an analysis (80 columns; ANSI colour when asked).
 
@@ -479,6 +487,9 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
                              f"{max(tolerances):.0e} of the largest |x| of the quantity"))
         for note in analysis.notes:
             out.extend(_wrap("  note: ", note))
+        if _rounded(analysis):
+            out.extend(_wrap("  note: ", f"irrational values taken to {IRRATIONAL_DIGITS} "
+                                         "significant digits"))
         for result in analysis.results:
             out.append("")
             unit = _PRETTY_UNIT.get(result.unit, result.unit)
@@ -567,11 +578,25 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
 
 
 def _complex_text(value) -> str:
+    if getattr(value, "free_symbols", None):
+        return short_formula(value)  # a pole or zero in terms of the free parameters
     number = complex(sympy.N(value))
     if abs(number.imag) < 1e-12 * max(1.0, abs(number.real)):
         return f"{number.real:.4g}"
     sign = "+" if number.imag >= 0 else "-"
     return f"{number.real:.4g} {sign} j{abs(number.imag):.4g}"
+
+
+def _roots_text(roots, polynomial) -> str:
+    """Roots as a list; with free parameters past degree 2 they stay unnamed, so say so."""
+    if roots:
+        return ", ".join(_complex_text(r) for r in roots)
+    degree = polynomial.degree()
+    names = sorted(str(x) for x in polynomial.free_symbols - set(polynomial.gens))
+    if degree > 0 and names:
+        return (f"the {degree} roots of {short_formula(polynomial.as_expr())} = 0 "
+                f"(no closed form above degree 2; they need values for {', '.join(names)})")
+    return "none"
 
 
 def transfer_text(tf) -> str:
@@ -590,8 +615,8 @@ def transfer_text(tf) -> str:
     lines = [f"── from {tf.source} to {tf.quantity.label} " + "─" * max(
         3, _WIDTH - 12 - len(tf.source) - len(tf.quantity.label))]
     lines.extend(_wrap("  H(s) = ", short_formula(tf.expr)))
-    lines.extend(_wrap("  poles  ", ", ".join(_complex_text(p) for p in tf.poles) or "none"))
-    lines.extend(_wrap("  zeros  ", ", ".join(_complex_text(z) for z in tf.zeros) or "none"))
+    lines.extend(_wrap("  poles  ", _roots_text(tf.poles, tf.denominator)))
+    lines.extend(_wrap("  zeros  ", _roots_text(tf.zeros, tf.numerator)))
     if tf.dc_gain is not None:
         lines.extend(_wrap("  DC gain  ", short_formula(tf.dc_gain)))
     else:

@@ -101,8 +101,8 @@ def _definition_factor(name: str) -> sympy.Expr:
 @cache
 def _atom(word: str) -> tuple[sympy.Expr, Dims]:
     ureg = registry()
-    if word in ("%",):
-        word = "percent"
+    # Symbols the language accepts that pint spells out.
+    word = {"%": "percent", "°": "degree"}.get(word, word)
     candidates = ureg.parse_unit_name(word)
     if not candidates:
         raise KeyError(word)
