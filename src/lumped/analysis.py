@@ -34,6 +34,7 @@ from .exact import (  # noqa: F401 - the first two stay importable from here
     rationalise,
     refuse_unresolvable,
 )
+from .figures import AXIS_TOL as _AXIS_TOL
 from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from .inversion import ParametersNeeded, TimeResponse, invert
 from .topology import falling_masses, validate
@@ -151,7 +152,6 @@ def _network_pole_test(solution: Solution):
 _WINDOW_TIME_CONSTANTS = 6
 _WINDOW_PERIODS = 3
 _WINDOW_GROWTH_TIMES = 5
-_AXIS_TOL = 1e-10  # |Re p| below this times |p| is a sustained oscillation, as in figures.py
 
 
 def _seconds(value: float) -> str:

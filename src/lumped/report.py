@@ -32,6 +32,8 @@ def engineering(value: float | None, unit: str = "", digits: int = 3) -> str:
     '4.20 mm'
     >>> engineering(-1234.5, "V")
     '-1.23 kV'
+    >>> engineering(5.56e-25, "m")
+    '5.56e-25 m'
     """
     if value is None:
         return "—"
@@ -44,6 +46,10 @@ def engineering(value: float | None, unit: str = "", digits: int = 3) -> str:
     if unit not in _PREFIXABLE:
         if 1e-3 <= magnitude < 1e5:
             return f"{_significant(value, digits)} {shown_unit}".strip()
+        return f"{value:.{digits - 1}e} {shown_unit}".strip()
+    smallest, largest = _PREFIXES[-1][0], _PREFIXES[0][0]
+    if magnitude < smallest * 0.9995 or magnitude >= largest * 1000:
+        # Beyond the prefixes: a plain power of ten reads better than 0.000000000556 fm.
         return f"{value:.{digits - 1}e} {shown_unit}".strip()
     if unit == "m" and 1e-3 <= magnitude < 1:
         factor, prefix = 1e-3, "m"
