@@ -345,7 +345,7 @@ def generate(seed: int, *, sources: bool = True, min_nodes: int = 2, max_nodes: 
 
 def _draw(rng: random.Random, sources: bool, min_nodes: int, max_nodes: int,
           allow_sine: bool) -> Network | None:
-    layout = rng.choice(LAYOUTS)
+    layout = rng.choice([lay for lay in LAYOUTS if len(lay) <= max_nodes])
     total = rng.randint(max(min_nodes, len(layout)), max_nodes)
     sizes = [1] * len(layout)
     for _ in range(total - len(layout)):
