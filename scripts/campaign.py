@@ -74,8 +74,13 @@ def hard_limit(seconds: int | None = None):
 
 def failure_class(error: BaseException) -> str:
     """A short key grouping failures of one cause: type and the message's first words."""
-    words = re.sub(r"[-+]?\d[\w.*/+-]*|'[^']*'", "#", str(error).split("\n")[0]).split()[:4]
-    return f"{type(error).__name__}: {' '.join(words)}".strip()
+    return f"{type(error).__name__}: {_gist(str(error))}".strip()
+
+
+def _gist(message: str) -> str:
+    """The plain words of a message's first line (numbers, names, formulas dropped)."""
+    words = [w for w in message.split("\n")[0].split() if w.rstrip(":").isalpha()]
+    return " ".join(words[:4])
 
 
 # ---------------------------------------------------------------------------
@@ -235,8 +240,7 @@ def run_cli(text: str, folder: str, check: bool) -> dict:
     if record["status"] == 3:
         match = re.search(r"internal error while working on .*?: (\w+): ?(.*)", printed)
         if match:
-            words = re.sub(r"[-+]?\d[\w.*/+-]*|'[^']*'", "#", match.group(2)).split()[:3]
-            record["class"] = f"internal: {match.group(1)}: {' '.join(words)}".strip()
+            record["class"] = f"internal: {match.group(1)}: {_gist(match.group(2))}".strip()
         else:
             record["class"] = "internal"
     elif record["status"] in ("timeout", "escaped") or record["traceback"]:

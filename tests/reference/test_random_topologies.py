@@ -55,8 +55,9 @@ PER_NETWORK_SECONDS = 20
 
 def budget(examples: int) -> settings:
     """Reproducible example counts; no shrinking (a seed has nothing to shrink)."""
+    # Stop at the first failure: its seed and netlist are in the message.
     return settings(max_examples=examples, deadline=None, derandomize=True, database=None,
-                    phases=[Phase.explicit, Phase.generate],
+                    phases=[Phase.explicit, Phase.generate], report_multiple_bugs=False,
                     suppress_health_check=[HealthCheck.too_slow])
 
 
