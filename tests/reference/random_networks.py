@@ -337,7 +337,7 @@ def generate(seed: int, *, sources: bool = True, min_nodes: int = 2, max_nodes: 
     rng = random.Random(seed)
     for _attempt in range(100):
         net = _draw(rng, sources, min_nodes, max_nodes, allow_sine)
-        if net is not None and regular(net):
+        if net is not None and regular(net) and spread(net) <= MAX_SPREAD:
             net.seed = seed
             return net
     raise RuntimeError(f"no regular network drawn from seed {seed}")
@@ -639,6 +639,28 @@ def reference(net: Network) -> StateModel:
                 k += 1
     weights = np.array([0.5 * p.analog for p in caps + inds])
     return StateModel(a_mat, b_mat, x0, outputs, u_of_w, s_mat, w0, weights)
+
+
+# Largest ratio of the fastest to the slowest mode drawn.  The reference works in
+# floating point: its state matrix carries errors of about eps * |A|, which over
+# the window (five slowest time constants) move a slow or conserved mode by about
+# eps * spread * 5 of its size; 1e7 keeps that near 1e-8, well inside the tolerance.
+MAX_SPREAD = 1e7
+
+
+def spread(net: Network) -> float:
+    """Fastest over slowest non-zero mode of the network (1 without stores)."""
+    a = reference(net).a
+    if a.size == 0:
+        return 1.0
+    sizes = np.abs(np.linalg.eigvals(a))
+    top = sizes.max()
+    if top == 0:
+        return 1.0
+    # Modes within rounding of zero are conserved quantities (charge of a capacitor
+    # cut-set, flux of an inductor loop), not slow modes.
+    slow = sizes[sizes > 1e-14 * top]
+    return float(top / slow.min()) if slow.size else 1.0
 
 
 def sample_times(scale: float) -> np.ndarray:

@@ -45,7 +45,6 @@ from .random_networks import (
     energy_profile,
     generate,
     reference,
-    sample_times,
 )
 
 # A network that takes longer than this is a failure (the tool should answer in
@@ -179,20 +178,29 @@ def test_reference_transformer_ratio():
 
 
 def test_reference_matches_an_integrator():
-    # The matrix-exponential reference against scipy's integrator on drawn networks.
-    for seed in (3, 11, 29):
-        net = generate(seed)
+    # The matrix-exponential reference against scipy's integrator on the first drawn
+    # networks mild enough for an explicit method (mode spread below 1e3).
+    from .random_networks import spread
+
+    checked = 0
+    for seed in range(200):
+        net = generate(seed, irrational=False)
         model = reference(net)
+        if model.a.shape[0] < 2 or spread(net) > 1e3:
+            continue
         big, z0 = model.augmented()
         scale = model.time_scale()
-        times = sample_times(scale)
-        solution = solve_ivp(lambda t, z, big=big: big @ z, (0, scale), z0, method="Radau",
-                             t_eval=times, rtol=1e-10, atol=1e-12 * max(1.0, np.abs(z0).max()),
-                             jac=big)
-        exact = np.array([model.states([t])[0] for t in times]).T
+        times = np.linspace(0, scale, 40)
+        solution = solve_ivp(lambda t, z, big=big: big @ z, (0, scale), z0, method="DOP853",
+                             t_eval=times, rtol=1e-10, atol=1e-12 * max(1.0, np.abs(z0).max()))
+        exact = model.states(times).T
         n = model.a.shape[0]
         span = np.ptp(exact, axis=1) + np.abs(exact).max() * 1e-6 + 1e-12
-        assert np.all(np.abs(solution.y[:n] - exact) <= 1e-5 * span[:, None]), net.text()
+        assert np.all(np.abs(solution.y[:n] - exact) <= 1e-6 * span[:, None]), net.text()
+        checked += 1
+        if checked == 3:
+            break
+    assert checked == 3
 
 
 def test_reference_refuses_a_capacitor_loop():
