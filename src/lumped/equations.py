@@ -586,6 +586,13 @@ def _rational(value: sympy.Expr) -> sympy.Expr:
     return rationalise(value) if value.is_number and not value.is_Rational else value
 
 
+def _rational_in_s(value: sympy.Expr) -> sympy.Expr:
+    """An expression in s alone with its irrational numbers as 40-digit rationals."""
+    if isinstance(value, int):
+        return sympy.Integer(value)
+    return rationalise(value) if value.free_symbols <= {s} else value
+
+
 def _log10(value: sympy.Rational) -> float:
     """log10 of a positive rational of any size (a float quotient would overflow)."""
     return math.log10(int(value.p)) - math.log10(int(value.q))
@@ -827,6 +834,14 @@ def _cancel(num: sympy.Poly, den: sympy.Poly) -> tuple[sympy.Poly, sympy.Poly]:
     if num.is_zero:
         return num, _poly(sympy.Integer(1))
     num, den = num.unify(den)
+    if _numeric_irrational(den.domain):
+        # Coefficients such as pi (a sine's 2 pi f) or sqrt(3): a gcd over an
+        # expression domain costs seconds and changes nothing that matters, since
+        # the inversion takes such numbers to exact rationals and cancels there.
+        lc = den.LC()
+        if lc.could_extract_minus_sign():
+            num, den = -num, -den
+        return num, den
     if den.domain.is_PolynomialRing:
         # A gcd over Z[s, params] is far cheaper than pseudo-remainders in s
         # over Z[params], which swell badly.
@@ -850,6 +865,15 @@ def _cancel(num: sympy.Poly, den: sympy.Poly) -> tuple[sympy.Poly, sympy.Poly]:
         if lc.could_extract_minus_sign():
             num, den = -num, -den
     return num, den
+
+
+def _numeric_irrational(domain) -> bool:
+    """True for a coefficient domain holding irrational numbers rather than parameters."""
+    if domain.is_EX or domain.is_EXRAW:
+        return True
+    if domain.is_PolynomialRing or domain.is_FractionField:
+        return not all(isinstance(g, sympy.Symbol) for g in domain.symbols)
+    return False
 
 
 def _rf_expr(num: sympy.Poly, den: sympy.Poly) -> sympy.Expr:
@@ -978,7 +1002,9 @@ class Solution:
                     delays[piece.delay] = delays.get(piece.delay, sympy.Integer(0)) + shape
                 parts = []
                 for delay, shape in delays.items():
-                    snum, sden = _ratio(shape)
+                    # A sine's 2 pi f or phase: the same 40-digit rationals the matrix
+                    # takes, so the algebra stays over Q (fast, and exact from there on).
+                    snum, sden = _ratio(_rational_in_s(shape))
                     num, den = _cancel(hnum * snum, hden * sden)
                     if form.order == 1 and inp.origin in ("initial", "drop") and delay == 0:
                         num, den = self._minus_initial(num, den, inp)
@@ -1057,12 +1083,13 @@ class Solution:
         """``s**order (c^T N_j / D + direct_j)`` as a cancelled ratio."""
         den = self.denominator
         num = _poly(sympy.Integer(0))
+        # Coefficients such as a damper's pi*0.004 are taken as the solve took them.
         for i, coeff in form.coeffs.items():
             nij = self._nums[j][i]
             if not nij.is_zero:
-                num = num + nij * _poly(coeff)
+                num = num + nij * _poly(_rational_in_s(coeff))
         if j in form.direct:
-            num = num + den * _poly(form.direct[j])
+            num = num + den * _poly(_rational_in_s(form.direct[j]))
         if num.is_zero:
             return num, _poly(sympy.Integer(1))
         if form.order == 1:
