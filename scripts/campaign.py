@@ -29,7 +29,6 @@ import multiprocessing
 import os
 import random
 import re
-import signal
 import sys
 import tempfile
 import time
@@ -45,6 +44,7 @@ from tests.reference.random_networks import (  # noqa: E402
     compare,
     generate,
     regular,
+    time_limit,
 )
 
 SLOW_SECONDS = 5.0  # an input slower than this is reported
@@ -56,20 +56,8 @@ class ExpiredError(BaseException):
     """The per-input hard time limit ran out (not an Exception: nothing may swallow it)."""
 
 
-def _expire(signum, frame):
-    raise ExpiredError
-
-
-@contextlib.contextmanager
 def hard_limit(seconds: int | None = None):
-    seconds = seconds or HARD_SECONDS
-    previous = signal.signal(signal.SIGALRM, _expire)
-    signal.alarm(seconds)
-    try:
-        yield
-    finally:
-        signal.alarm(0)
-        signal.signal(signal.SIGALRM, previous)
+    return time_limit(seconds or HARD_SECONDS, ExpiredError)
 
 
 def failure_class(error: BaseException) -> str:

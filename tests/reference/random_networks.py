@@ -24,9 +24,12 @@ initial state is consistent (no impulses at t = 0).
 
 from __future__ import annotations
 
+import contextlib
 import itertools
 import math
 import random
+import signal
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -746,3 +749,19 @@ def energy_profile(net: Network, points: int = 400) -> tuple[np.ndarray, np.ndar
             energy += 0.5 * p.analog * np.asarray(x, dtype=float) ** 2  # L i^2/2, F^2/(2k)
     initial = sum(0.5 * p.analog * p.initial ** 2 for p in net.parts if p.role in "LC")
     return times, energy, initial
+
+
+@contextlib.contextmanager
+def time_limit(seconds: int, expired: Callable[[], BaseException]) -> Iterator[None]:
+    """Raise ``expired()`` in the main thread once ``seconds`` have passed (POSIX alarm)."""
+
+    def expire(signum, frame):
+        raise expired()
+
+    previous = signal.signal(signal.SIGALRM, expire)
+    signal.alarm(seconds)
+    try:
+        yield
+    finally:
+        signal.alarm(0)
+        signal.signal(signal.SIGALRM, previous)

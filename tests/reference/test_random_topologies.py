@@ -25,8 +25,6 @@ Sources of truth, named beside each check:
 from __future__ import annotations
 
 import math
-import signal
-from contextlib import contextmanager
 
 import numpy as np
 import pytest
@@ -45,6 +43,7 @@ from .random_networks import (
     energy_profile,
     generate,
     reference,
+    time_limit,
 )
 
 # A network that takes longer than this is a failure (the tool should answer in
@@ -60,23 +59,9 @@ def budget(examples: int) -> settings:
                     suppress_health_check=[HealthCheck.too_slow])
 
 
-@contextmanager
-def time_limit(seconds: int, what: str):
-    def expire(signum, frame):
-        raise AssertionError(f"over {seconds} s on:\n{what}")
-
-    previous = signal.signal(signal.SIGALRM, expire)
-    signal.alarm(seconds)
-    try:
-        yield
-    finally:
-        signal.alarm(0)
-        signal.signal(signal.SIGALRM, previous)
-
-
 def check_agreement(net: Network) -> None:
     text = net.text()
-    with time_limit(PER_NETWORK_SECONDS, text):
+    with time_limit(PER_NETWORK_SECONDS, lambda: AssertionError(f"over the limit on:\n{text}")):
         outcome = compare(net)  # any exception other than the tool's own is a failure
     assert outcome.status in ("agree", "refused"), f"{outcome.detail}\n--- netlist ---\n{text}"
 
@@ -251,7 +236,7 @@ def test_stored_energy_never_grows_without_sources(seed):
     net = generate(seed, sources=False, irrational=seed % 2 == 0)
     text = net.text()
     try:
-        with time_limit(PER_NETWORK_SECONDS, text):
+        with time_limit(PER_NETWORK_SECONDS, lambda: AssertionError(f"over the limit on:\n{text}")):
             times, energy, initial = energy_profile(net)
     except LumpedError:
         return  # a clean refusal
