@@ -355,6 +355,8 @@ def main(argv: list[str] | None = None) -> int:
                    and not record["class"].startswith("refused"))
             if bad:
                 failures.setdefault((kind, record["class"]), []).append(record)
+                # At once, so an interrupted run still names what failed.
+                print(f"FAILED {kind} seed {record['seed']}: {record['class']}", flush=True)
             if done % 500 == 0 or done == len(jobs):
                 rate = done / (time.monotonic() - start)
                 print(f"{done}/{len(jobs)} ({rate:.1f}/s)  networks {dict(counts['network'])}  "
