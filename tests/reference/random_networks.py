@@ -507,8 +507,7 @@ class StateModel:
 
     def time_scale(self) -> float:
         """About five of the slowest time constants (or periods) of the network."""
-        rates = [abs(z) for z in np.linalg.eigvals(self.a) if abs(z) > 1e-9]
-        rates += [abs(z) for z in np.linalg.eigvals(self.s) if abs(z) > 1e-9]
+        rates = _live_rates(self.a) + _live_rates(self.s)
         if not rates:
             return 1e-3
         return 5.0 / min(rates)
@@ -656,14 +655,22 @@ def spread(net: Network) -> float:
     a = reference(net).a
     if a.size == 0:
         return 1.0
-    sizes = np.abs(np.linalg.eigvals(a))
-    top = sizes.max()
-    if top == 0:
-        return 1.0
-    # Modes within rounding of zero are conserved quantities (charge of a capacitor
-    # cut-set, flux of an inductor loop), not slow modes.
-    slow = sizes[sizes > 1e-14 * top]
-    return float(top / slow.min()) if slow.size else 1.0
+    rates = _live_rates(a)
+    return max(rates) / min(rates) if rates else 1.0
+
+
+def _live_rates(matrix: np.ndarray) -> list[float]:
+    """Magnitudes of the eigenvalues that are not zero within rounding.
+
+    Modes within rounding of zero (relative to the fastest) are conserved
+    quantities (charge of a capacitor cut-set, flux of an inductor loop), not slow
+    modes; the spread filter and the time scale must agree on this.
+    """
+    if matrix.size == 0:
+        return []
+    sizes = np.abs(np.linalg.eigvals(matrix))
+    top = float(sizes.max())
+    return [float(z) for z in sizes if z > max(1e-14 * top, 1e-300)]
 
 
 def sample_times(scale: float) -> np.ndarray:
