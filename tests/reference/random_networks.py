@@ -662,15 +662,18 @@ def spread(net: Network) -> float:
 def _live_rates(matrix: np.ndarray) -> list[float]:
     """Magnitudes of the eigenvalues that are not zero within rounding.
 
-    Modes within rounding of zero (relative to the fastest) are conserved
-    quantities (charge of a capacitor cut-set, flux of an inductor loop), not slow
-    modes; the spread filter and the time scale must agree on this.
+    Modes within rounding of zero (relative to the matrix's norm, the scale of
+    eigenvalue rounding) are conserved quantities (charge of a capacitor cut-set,
+    flux of an inductor loop), not slow modes; the spread filter and the time
+    scale must agree on this.  A true mode that slow would exceed MAX_SPREAD anyway,
+    and the drawn values keep true rates far above 1e-9 per second.
     """
     if matrix.size == 0:
         return []
+    norm = float(np.linalg.norm(matrix, ord=np.inf))
     sizes = np.abs(np.linalg.eigvals(matrix))
-    top = float(sizes.max())
-    return [float(z) for z in sizes if z > max(1e-14 * top, 1e-300)]
+    # Also an absolute floor: when every true mode is zero, the norm is rounding too.
+    return [float(z) for z in sizes if z > max(1e-10 * norm, 1e-9)]
 
 
 def sample_times(scale: float) -> np.ndarray:
