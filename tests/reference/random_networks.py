@@ -603,6 +603,11 @@ def reference(net: Network) -> StateModel:
     for p in inds:
         rows.append((across(p.a) - across(p.b)) / p.analog)  # L di/dt = v
     full = np.array(rows).reshape(n_x, n_x + n_u)
+    # Entries at rounding level of the solve are zeros: left in, a diagonal of 4e-15
+    # beside a 0 makes scipy's expm of the (triangular) augmented matrix lose the
+    # coupling between them (e^d - 1 rounds to 0 over d), and a ramp vanishes.
+    if full.size:
+        full[np.abs(full) < 1e-12 * np.abs(full).max()] = 0.0
     a_mat, b_mat = full[:, :n_x], full[:, n_x:]
     x0 = np.array([p.initial for p in caps + inds], dtype=float)
     outputs: dict[str, tuple[np.ndarray, np.ndarray]] = {}
