@@ -29,12 +29,7 @@ import sympy
 from . import model as m
 from .equations import Response, Solution, assemble, s
 from .errors import UnknownQuantityError
-from .exact import (  # noqa: F401 - the first two stay importable from here
-    IRRATIONAL_DIGITS,
-    rationalise,
-    refuse_unresolvable,
-)
-from .figures import AXIS_TOL as _AXIS_TOL
+from .exact import refuse_unresolvable
 from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from .inversion import ParametersNeeded, TimeResponse, invert
 from .topology import falling_masses, validate
@@ -169,8 +164,8 @@ def _default_window(times: list[TimeResponse],
     The slowest decaying pole sets the settling part (the network's or a
     source's: both must have died out).  Poles on the imaginary axis, the
     network's or a source's, add a few periods; a pole at 0 (a conserved charge
-    or momentum, a constant) adds nothing; a pole within rounding of the axis
-    counts as on it, never as an enormous time constant.  Growing modes add a
+    or momentum, a constant) adds nothing; a pole is on the axis only when the
+    inversion certified it there (real part exactly 0).  Growing modes add a
     few growth times.  Everything starts after the last switching instant.
     """
     tau = 0.0
@@ -183,10 +178,9 @@ def _default_window(times: list[TimeResponse],
                 continue
             delays.append(float(mode.delay))
             pole = complex(mode.pole)
-            size = abs(pole)
-            if size == 0:
+            if pole == 0:
                 continue  # a constant or a conserved quantity: no time scale
-            if abs(pole.real) <= _AXIS_TOL * size:
+            if pole.real == 0:
                 periods.append(2 * math.pi / abs(pole.imag))
             elif pole.real > 0:
                 growth = min(growth, 1 / pole.real)
@@ -407,18 +401,6 @@ def _highest_node_voltage(netlist, solution, results, start: float, stop: float)
     return highest
 
 
-def _grows_without_bound(time: TimeResponse) -> bool:
-    """True when a mode of the closed form grows: a pole in the right half-plane, or a
-    repeated pole on the imaginary axis whose powers of t do not vanish."""
-    for mode in time.modes:
-        real = sympy.re(mode.pole_exact) if mode.pole_exact is not None else mode.pole.real
-        if real > 0:
-            return True
-        if real == 0 and any(c != 0 for c in mode.coefficients[1:]):
-            return True
-    return False
-
-
 def _cautions(netlist, solution, results, verdicts, drops, start, stop) -> list[str]:
     cautions = []
     # Only values the response reaches in the window count: a capacitor's initial
@@ -438,10 +420,10 @@ def _cautions(netlist, solution, results, verdicts, drops, start, stop) -> list[
             "electrical safety standards."
         )
     for result in results:
-        if result.time is not None and not result.time.parameters \
-                and _grows_without_bound(result.time):
+        # The figures' one rule for a response's shape decides what grows.
+        if result.figures is not None and result.figures.shape == "growth":
             reached = ""
-            if result.figures is not None and result.figures.magnitude is not None:
+            if result.figures.magnitude is not None:
                 reached = (f" (magnitude {result.figures.magnitude.value:.4g} {result.unit} "
                            "by the end of the window)")
             cautions.append(

@@ -580,14 +580,8 @@ def _balance(rows: list[dict[int, list[sympy.Expr]]]) -> sympy.Rational:
 
 
 def _rational(value: sympy.Expr) -> sympy.Expr:
-    """A number as a rational (irrationals at 40 digits); expressions in parameters as they are."""
-    if isinstance(value, int):
-        return sympy.Integer(value)
-    return rationalise(value) if value.is_number and not value.is_Rational else value
-
-
-def _rational_in_s(value: sympy.Expr) -> sympy.Expr:
-    """An expression in s alone with its irrational numbers as 40-digit rationals."""
+    """A number, or an expression in s alone, with its irrational numbers as 40-digit
+    rationals; expressions in parameters stay as they are."""
     if isinstance(value, int):
         return sympy.Integer(value)
     return rationalise(value) if value.free_symbols <= {s} else value
@@ -1004,7 +998,7 @@ class Solution:
                 for delay, shape in delays.items():
                     # A sine's 2 pi f or phase: the same 40-digit rationals the matrix
                     # takes, so the algebra stays over Q (fast, and exact from there on).
-                    snum, sden = _ratio(_rational_in_s(shape))
+                    snum, sden = _ratio(_rational(shape))
                     num, den = _cancel(hnum * snum, hden * sden)
                     if form.order == 1 and inp.origin in ("initial", "drop") and delay == 0:
                         num, den = self._minus_initial(num, den, inp)
@@ -1087,9 +1081,9 @@ class Solution:
         for i, coeff in form.coeffs.items():
             nij = self._nums[j][i]
             if not nij.is_zero:
-                num = num + nij * _poly(_rational_in_s(coeff))
+                num = num + nij * _poly(_rational(coeff))
         if j in form.direct:
-            num = num + den * _poly(_rational_in_s(form.direct[j]))
+            num = num + den * _poly(_rational(form.direct[j]))
         if num.is_zero:
             return num, _poly(sympy.Integer(1))
         if form.order == 1:
