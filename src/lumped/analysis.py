@@ -28,8 +28,7 @@ import sympy
 
 from . import model as m
 from .equations import Response, Solution, assemble, s
-from .errors import UnknownQuantityError
-from .exact import refuse_unresolvable
+from .errors import NetlistError, UnknownQuantityError
 from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from .inversion import ParametersNeeded, TimeResponse, invert
 from .topology import falling_masses, validate
@@ -213,6 +212,95 @@ def _default_window(times: list[TimeResponse],
     return 0.0, last + sum(parts), rule
 
 
+# The most periods of one ringing mode a window may hold while the mode lasts.
+# Beyond this the review figures would have to follow each period, and past
+# about 1e9 radians double precision no longer knows the phase at all.
+MOST_PERIODS = 100_000
+# A mode has died out once its envelope fell by e^-37 (below double resolution).
+_DECAYED = 37.0
+
+
+def ringing_beyond_window(poles, start: float, stop: float) -> tuple[float, float] | None:
+    """The fastest ringing that lasts more than :data:`MOST_PERIODS` periods in the window.
+
+    Parameters
+    ----------
+    poles : iterable of (complex, float)
+        Each pole with the delay at which its term starts.
+    start, stop : float
+        The window, in seconds.
+
+    Returns
+    -------
+    (period, periods) or None
+        The ringing period in seconds and how many periods it lasts within the
+        window, for the worst mode; None when every mode is within the limit.
+
+    Examples
+    --------
+    >>> period, periods = ringing_beyond_window([(-1 + 1e12j, 0.0)], 0.0, 5.0)
+    >>> f"{period:.3g} s, {periods:.3g} periods"
+    '6.28e-12 s, 7.96e+11 periods'
+    >>> ringing_beyond_window([(-1 + 10j, 0.0)], 0.0, 5.0) is None
+    True
+    """
+    worst = None
+    for pole, delay in poles:
+        omega = abs(complex(pole).imag)
+        if omega == 0 or not math.isfinite(omega):
+            continue
+        decay = -complex(pole).real
+        ends = min(stop, delay + _DECAYED / decay) if decay > 0 else stop
+        alive = ends - max(start, delay)
+        if alive <= 0:
+            continue
+        periods = omega * alive / (2 * math.pi)
+        if periods > MOST_PERIODS and (worst is None or periods > worst[1]):
+            worst = (2 * math.pi / omega, periods)
+    return worst
+
+
+def refuse_unresolvable(netlist: m.Netlist, times: list[TimeResponse | None], start: float,
+                        stop: float, window_rule: str = "") -> None:
+    """Refuse a network whose fastest ringing the window cannot follow (see MOST_PERIODS).
+
+    Raises
+    ------
+    NetlistError
+        Naming the ringing period and the window; at the ``window`` line when
+        the netlist has one.
+
+    Examples
+    --------
+    >>> from lumped.api import loads
+    >>> try:
+    ...     analyse(loads("capacitor C at a 1 pF\\ninductor L at a 1 pH, initially 1 A\\n"
+    ...                   "resistor R at a 1 Gohm\\nwatch voltage at a\\nwindow 1 s\\n"))
+    ... except Exception as error:
+    ...     print(error.message.split(" within")[0])
+    the network rings with a period of 6.28e-12 s for about 1.18e+10 periods
+    """
+    poles = [(mode.pole, float(mode.delay)) for time in times if time is not None
+             for mode in time.modes]
+    worst = ringing_beyond_window(poles, start, stop)
+    if worst is None:
+        return
+    period, periods = worst
+    window = netlist.window
+    chosen = f" (chosen by the tool: {window_rule})" if window_rule else ""
+    raise NetlistError(
+        f"the network rings with a period of {period:.3g} s for about {periods:.3g} periods "
+        f"within the window of {stop - start:.3g} s{chosen}; the tool follows at most "
+        f"{MOST_PERIODS:.0e} periods of one ringing, so these two time scales are too far "
+        "apart to solve here",
+        window.location if window is not None else None,
+        hint="check the values that set the ringing and the slow decay (a stiffness, a "
+        "constant or a damping many decades off?), or "
+        + ("give a `window`" if window_rule else "shorten the window")
+        + f" of a few periods, e.g. `window {10 * period:.3g} s`",
+    ).with_text(netlist.text)
+
+
 def _quantities(netlist: m.Netlist) -> list[m.Quantity]:
     seen: dict[str, m.Quantity] = {}
     for quantity in (*netlist.watches, *(r.quantity for r in netlist.requirements)):
@@ -257,7 +345,7 @@ def analyse(netlist: m.Netlist) -> Analysis:
                                                    netlist)
     else:
         start, stop = float(netlist.window.start), float(netlist.window.stop)
-    refuse_unresolvable(netlist, times, start, stop)  # never leave the figures running
+    refuse_unresolvable(netlist, times, start, stop, window_rule)  # never left running
     band = float(netlist.settling_band)
     own_pole = _network_pole_test(solution)
     results = []

@@ -8,8 +8,7 @@ nothing else, with the rational of :data:`IRRATIONAL_DIGITS` significant digits;
 parts that depend on a free parameter keep their symbols.  It is called where
 the algebra meets numbers: the solve of the network matrix and the inversion.
 
-The documented ranges of values (``grammar/language.md``) and the ringing limit
-(:func:`refuse_unresolvable`) live here too.
+The documented ranges of values (``grammar/language.md``) live here too.
 """
 
 from __future__ import annotations
@@ -77,96 +76,3 @@ def rationalise(expr: sympy.Expr, digits: int = IRRATIONAL_DIGITS) -> sympy.Expr
     elif isinstance(expr, float):
         expr = sympy.Float(expr)
     return walk(expr)
-
-
-# The most periods of one ringing mode a window may hold while the mode lasts.
-# Beyond this the review figures would have to follow each period, and past
-# about 1e9 radians double precision no longer knows the phase at all.
-MOST_PERIODS = 100_000
-# A mode has died out once its envelope fell by e^-37 (below double resolution).
-_DECAYED = 37.0
-
-
-def ringing_beyond_window(poles, start: float, stop: float) -> tuple[float, float] | None:
-    """The fastest ringing that lasts more than :data:`MOST_PERIODS` periods in the window.
-
-    Parameters
-    ----------
-    poles : iterable of (complex, float)
-        Each pole with the delay at which its term starts.
-    start, stop : float
-        The window, in seconds.
-
-    Returns
-    -------
-    (period, periods) or None
-        The ringing period in seconds and how many periods it lasts within the
-        window, for the worst mode; None when every mode is within the limit.
-
-    Examples
-    --------
-    >>> period, periods = ringing_beyond_window([(-1 + 1e12j, 0.0)], 0.0, 5.0)
-    >>> f"{period:.3g} s, {periods:.3g} periods"
-    '6.28e-12 s, 7.96e+11 periods'
-    >>> ringing_beyond_window([(-1 + 10j, 0.0)], 0.0, 5.0) is None
-    True
-    """
-    import math
-
-    worst = None
-    for pole, delay in poles:
-        omega = abs(complex(pole).imag)
-        if omega == 0 or not math.isfinite(omega):
-            continue
-        decay = -complex(pole).real
-        ends = min(stop, delay + _DECAYED / decay) if decay > 0 else stop
-        alive = ends - max(start, delay)
-        if alive <= 0:
-            continue
-        periods = omega * alive / (2 * math.pi)
-        if periods > MOST_PERIODS and (worst is None or periods > worst[1]):
-            worst = (2 * math.pi / omega, periods)
-    return worst
-
-
-def refuse_unresolvable(netlist, times, start: float, stop: float) -> None:
-    """Refuse a network whose fastest ringing the window cannot follow (see MOST_PERIODS).
-
-    Raises
-    ------
-    NetlistError
-        Naming the ringing period and the window; at the ``window`` line when
-        the netlist has one.
-
-    Examples
-    --------
-    >>> from lumped.api import loads
-    >>> from lumped.analysis import analyse
-    >>> try:
-    ...     analyse(loads("capacitor C at a 1 pF\\ninductor L at a 1 pH, initially 1 A\\n"
-    ...                   "resistor R at a 1 Gohm\\nwatch voltage at a\\nwindow 1 s\\n"))
-    ... except Exception as error:
-    ...     print(error.message.split(" within")[0])
-    the network rings with a period of 6.28e-12 s for about 1.18e+10 periods
-    """
-    from .errors import NetlistError
-
-    poles = [(mode.pole, float(mode.delay)) for time in times if time is not None
-             for mode in time.modes]
-    worst = ringing_beyond_window(poles, start, stop)
-    if worst is None:
-        return
-    period, periods = worst
-    window = getattr(netlist, "window", None)
-    chosen = "" if window is not None else " (chosen from the slowest time constant)"
-    raise NetlistError(
-        f"the network rings with a period of {period:.3g} s for about {periods:.3g} periods "
-        f"within the window of {stop - start:.3g} s{chosen}; the tool follows at most "
-        f"{MOST_PERIODS:.0e} periods of one ringing, so these two time scales are too far "
-        "apart to solve here",
-        window.location if window is not None else None,
-        hint="check the values that set the ringing and the slow decay (a stiffness, a "
-        "constant or a damping many decades off?), or "
-        + ("shorten the window" if window is not None else "give a `window`")
-        + f" of a few periods, e.g. `window {10 * period:.3g} s`",
-    ).with_text(getattr(netlist, "text", ""))
