@@ -188,6 +188,48 @@ def test_reference_matches_an_integrator():
     assert checked == 3
 
 
+def test_precise_reference_matches_the_float_reference():
+    # The 40-digit re-check is the same model: on ordinary drawn networks it agrees
+    # with the float reference to rounding (both from the same description).
+    import mpmath
+
+    from .random_networks import PRECISE_DIGITS, sample_times
+
+    for seed in (3, 11, 29):
+        net = generate(seed, irrational=True)
+        model = reference(net)
+        times = sample_times(model.time_scale())[::15]
+        fast = model.simulate(times)
+        with mpmath.workdps(PRECISE_DIGITS):
+            slow = reference(net, precise=True).simulate(times)
+            slow = {k: np.array(v, dtype=float) for k, v in slow.items()}
+        for label, values in fast.items():
+            scale = np.abs(values).max() + 1e-300
+            assert np.allclose(slow[label], values, rtol=0, atol=1e-8 * scale), (seed, label)
+
+
+def test_a_wrong_answer_is_still_flagged_after_the_precise_recheck(monkeypatch):
+    # The comparison must be able to fail: a tool answer off by 1e-4 of the range
+    # survives neither the float nor the 40-digit reference.
+    from lumped import inversion
+
+    net = Network(electrical(["a", "b"]), [
+        Part("V1", "V", "electrical", "a", "ground", 0.0, "step 5 V", terms=(("const", 5.0),)),
+        Part("R1", "G", "electrical", "a", "b", 1e3, "1 kohm"),
+        Part("C1", "C", "electrical", "b", "ground", 1e-6, "1 uF", initial=0.0,
+             initial_text="0 V"),
+    ])
+    assert compare(net).status == "agree"
+    honest = inversion.TimeResponse.evaluate
+
+    def skewed(self, times, derivative=0):
+        return np.asarray(honest(self, times, derivative), dtype=float) * (1 + 1e-4)
+
+    monkeypatch.setattr(inversion.TimeResponse, "evaluate", skewed)
+    outcome = compare(net)
+    assert outcome.status == "disagree", outcome
+
+
 def test_reference_refuses_a_capacitor_loop():
     # Two capacitors in parallel with a voltage source: not a state model (the generator
     # never draws it; the check says so).
