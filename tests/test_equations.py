@@ -12,8 +12,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from lumped import model as m
-from lumped.equations import STANDARD_GRAVITY, assemble, s
+from lumped.constants import STANDARD_GRAVITY
 from lumped.errors import SolveError, ValidationError
+from lumped.network.equations import assemble, s
 
 Q = sympy.Rational
 POS = {"positive": True}

@@ -13,8 +13,8 @@ import numpy as np
 import pytest
 import sympy
 
+from lumped.constants import STANDARD_GRAVITY_SI as STANDARD_GRAVITY
 from lumped.figures import (
-    STANDARD_GRAVITY,
     Extremum,
     Figures,
     Verdict,

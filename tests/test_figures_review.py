@@ -19,8 +19,8 @@ from lumped.analysis import analyse
 from lumped.api import loads
 from lumped.figures import compute_figures, energy_dissipated
 from lumped.inversion import invert
-from lumped.outputs import to_json
-from lumped.report import render
+from lumped.io.outputs import to_json
+from lumped.io.text import render
 
 s = sympy.Symbol("s")
 
@@ -150,7 +150,7 @@ def test_axis_roots_certified_even_from_loose_enclosures(monkeypatch):
     # u^2 + 3 u + 1 has two negative roots (quadratic formula, from memory).
     from flint import acb, arb
 
-    import lumped.inversion as inversion
+    import lumped.inversion.closed_form as inversion
 
     original = inversion._certified_roots
 
@@ -279,7 +279,7 @@ def test_a_million_periods_cost_no_more_than_a_few():
 
 
 def test_plot_marks_both_extremes(tmp_path):
-    from lumped.outputs import plot
+    from lumped.io.outputs import plot
 
     analysis = analyse(loads(LC_TANK))
     data = plot(analysis, tmp_path / "tank.svg")

@@ -12,7 +12,8 @@ import numpy as np
 import pytest
 import sympy
 
-from lumped.inversion import Impulse, Mode, ParametersNeeded, TimeResponse, invert
+from lumped.errors import ParametersNeeded
+from lumped.inversion import Impulse, Mode, TimeResponse, invert
 
 s = sympy.Symbol("s")
 t = sympy.Symbol("t", real=True)

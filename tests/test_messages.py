@@ -16,7 +16,7 @@ from lumped.analysis import analyse
 from lumped.api import loads
 from lumped.cli import main
 from lumped.errors import LumpedError, NetlistError, UnknownQuantityError
-from lumped.parse import _EXAMPLES
+from lumped.language.parse import _EXAMPLES
 
 CATALOGUE = [(label, example) for label, examples in _EXAMPLES.items() for example in examples]
 

@@ -6,7 +6,7 @@ import sympy
 from sympy import Rational, Symbol, pi, sqrt
 
 from lumped import model as m
-from lumped.parse import parse_text
+from lumped.language.parse import parse_text
 from lumped.topology import validate
 
 # Exact definitions (from memory, exact by definition): 1 lbf = 4.4482216152605 N,

@@ -7,10 +7,10 @@ Typical use from Python::
     for result in analysis.results:
         print(result.quantity.label, result.figures.peak)
 
-Each stage is usable on its own: :mod:`lumped.parse` (text to model),
-:mod:`lumped.topology` (checks), :mod:`lumped.equations` (exact s-domain
+Each stage is usable on its own: :mod:`lumped.language.parse` (text to model),
+:mod:`lumped.topology` (checks), :mod:`lumped.network.equations` (exact s-domain
 solution), :mod:`lumped.inversion` (closed-form time response),
-:mod:`lumped.figures` (review figures and verdicts), :mod:`lumped.report`.
+:mod:`lumped.figures` (review figures and verdicts), :mod:`lumped.io.text`.
 """
 
 from __future__ import annotations
@@ -23,7 +23,7 @@ __all__ = ["__version__", "analyse", "load", "loads"]
 def __getattr__(name: str):
     # Keep `import lumped` light: the heavy stages load on first use.
     if name in ("analyse", "load", "loads"):
-        from . import api
+        from lumped import api
 
         return getattr(api, name)
     raise AttributeError(name)

@@ -13,10 +13,10 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from . import model as m
-from .errors import NetlistError
-from .parse import load_file, parse_text
-from .topology import validate
+from lumped import model as m
+from lumped.errors import NetlistError
+from lumped.language.parse import load_file, parse_text
+from lumped.topology import validate
 
 
 def loads(text: str, source: str = "<text>", values: dict[str, str] | None = None) -> m.Netlist:
@@ -75,13 +75,13 @@ def check_outputs(source: Path, outputs: list[Path]) -> None:
 
 def analyse(netlist: m.Netlist):
     """Solve the netlist and compute every watched quantity's response and figures."""
-    from .analysis import analyse as _analyse
+    from lumped.analysis import analyse as _analyse
 
     return _analyse(netlist)
 
 
 def emit(analysis, args) -> int:
     """Print the report and write the requested outputs; return the exit status."""
-    from .outputs import emit as _emit
+    from lumped.io.outputs import emit as _emit
 
     return _emit(analysis, args)

@@ -12,7 +12,7 @@ import sys
 import textwrap
 from pathlib import Path
 
-from .errors import LumpedError, NetlistError
+from lumped.errors import LumpedError, NetlistError
 
 EXIT_PASS, EXIT_FAIL, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
 
@@ -94,7 +94,7 @@ def main(argv: list[str] | None = None) -> int:
 
 def _run(args: argparse.Namespace) -> int:
     if args.syntax:
-        from .reference import language_reference
+        from lumped.language.reference import language_reference
 
         print(language_reference())
         return EXIT_PASS
@@ -102,7 +102,7 @@ def _run(args: argparse.Namespace) -> int:
         print("lumped: name a netlist file, e.g. `lumped examples/switch_node_snubber.lumped`;"
               " see `lumped --help`", file=sys.stderr)
         return EXIT_BAD_INPUT
-    from . import api
+    from lumped import api
 
     source = Path(args.netlist)
     outputs = [Path(p) for p in (args.json, args.csv, args.plot, args.latex) if p]
@@ -123,7 +123,7 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _solve(args: argparse.Namespace, source: Path) -> int:
-    from . import api
+    from lumped import api
 
     values = {}
     for setting in args.set:
@@ -134,8 +134,8 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
         values[name.strip()] = value.strip()
     netlist = api.load(source, values)
     if args.check:
-        from .equations import assemble
-        from .report import network_summary
+        from lumped.io.text import network_summary
+        from lumped.network.equations import assemble
 
         solution = assemble(netlist)  # a network without a unique solution fails here too
         print(network_summary(netlist))
@@ -151,7 +151,7 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
     analysis = api.analyse(netlist)
     status = api.emit(analysis, args)
     if args.transfer:
-        from .report import transfer_text
+        from lumped.io.text import transfer_text
 
         for name in args.transfer:
             for result in analysis.results:

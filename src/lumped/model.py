@@ -22,7 +22,7 @@ from fractions import Fraction
 
 import sympy
 
-from .errors import Location
+from lumped.errors import Location
 
 GROUND = "ground"
 FRAME = "frame"
@@ -49,6 +49,31 @@ class Domain(Enum):
     @property
     def through_unit(self) -> str:
         return {"electrical": "A", "translational": "N", "rotational": "N*m"}[self.value]
+
+    # The one table from a domain to its quantities (every stage asks here).
+    @property
+    def across_kind(self) -> QuantityKind:
+        """The across quantity a node of this domain holds (voltage, velocity, ...)."""
+        return _DOMAIN_KINDS[self][0]
+
+    @property
+    def through_kind(self) -> QuantityKind:
+        """The through quantity that flows in an element of this domain."""
+        return _DOMAIN_KINDS[self][1]
+
+    @property
+    def watched_by_default(self) -> QuantityKind:
+        """What is watched at each node when a netlist has no watch lines.
+
+        Position, not velocity, for translational nodes: a suspension or drop
+        review reads travel first.
+        """
+        return _DOMAIN_KINDS[self][2]
+
+    @property
+    def quantity_kinds(self) -> tuple[QuantityKind, ...]:
+        """Every quantity that can be watched in this domain."""
+        return tuple(kind for kind in QuantityKind if kind.domain is self)
 
 
 class Role(Enum):
@@ -280,12 +305,12 @@ class QuantityKind(Enum):
 
     VOLTAGE = ("voltage", "V", Domain.ELECTRICAL)
     CURRENT = ("current", "A", Domain.ELECTRICAL)
-    VELOCITY = ("velocity", "m/s", Domain.TRANSLATIONAL)
     DISPLACEMENT = ("displacement", "m", Domain.TRANSLATIONAL)
+    VELOCITY = ("velocity", "m/s", Domain.TRANSLATIONAL)
     ACCELERATION = ("acceleration", "m/s^2", Domain.TRANSLATIONAL)
     FORCE = ("force", "N", Domain.TRANSLATIONAL)
-    ANGULAR_VELOCITY = ("angular velocity", "rad/s", Domain.ROTATIONAL)
     ANGLE = ("angle", "rad", Domain.ROTATIONAL)
+    ANGULAR_VELOCITY = ("angular velocity", "rad/s", Domain.ROTATIONAL)
     ANGULAR_ACCELERATION = ("angular acceleration", "rad/s^2", Domain.ROTATIONAL)
     TORQUE = ("torque", "N*m", Domain.ROTATIONAL)
 
@@ -303,7 +328,7 @@ class QuantityKind(Enum):
 
     @property
     def is_through(self) -> bool:
-        return self in (QuantityKind.CURRENT, QuantityKind.FORCE, QuantityKind.TORQUE)
+        return self is self.domain.through_kind
 
     @property
     def integral_order(self) -> int:
@@ -320,6 +345,14 @@ class QuantityKind(Enum):
             if kind.word == word:
                 return kind
         raise KeyError(word)
+
+
+_DOMAIN_KINDS = {  # across, through, watched without watch lines
+    Domain.ELECTRICAL: (QuantityKind.VOLTAGE, QuantityKind.CURRENT, QuantityKind.VOLTAGE),
+    Domain.TRANSLATIONAL: (QuantityKind.VELOCITY, QuantityKind.FORCE, QuantityKind.DISPLACEMENT),
+    Domain.ROTATIONAL: (QuantityKind.ANGULAR_VELOCITY, QuantityKind.TORQUE,
+                        QuantityKind.ANGULAR_VELOCITY),
+}
 
 
 @dataclass(frozen=True)

@@ -22,8 +22,8 @@ from itertools import pairwise
 
 import networkx as nx
 
-from . import model as m
-from .errors import Location, ValidationError
+from lumped import model as m
+from lumped.errors import Location, ValidationError
 
 DATUM = "<reference>"  # every reference node is this one node in the graphs
 
@@ -49,7 +49,7 @@ def validate(netlist: m.Netlist) -> Topology:
 
     Examples
     --------
-    >>> from lumped.parse import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("resistor R from a to ground 1 ohm\\ncurrent source I at a step 1 A\\n")
     >>> validate(net).domains["a"].value
     'electrical'
@@ -90,7 +90,7 @@ def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
 
     Examples
     --------
-    >>> from lumped.parse import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("mass box 8 kg\\nmass gauge 1 kg\\n"
     ...                  "spring Kpad from box to frame 80 kN/m\\n"
     ...                  "spring Kiso from gauge to box 20 kN/m\\ndrop box from 1 m\\n")
@@ -235,7 +235,7 @@ def joined_graph(netlist: m.Netlist, *, without: tuple[m.Role, ...],
 
     Examples
     --------
-    >>> from lumped.parse import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("current source I at a step 1 A\\nresistor R from a to ground 1 ohm\\n")
     >>> sorted(joined_graph(net, without=(m.Role.THROUGH_SOURCE,),
     ...                     couplings_join_ports=True).edges)
@@ -320,9 +320,5 @@ def _check_targets(netlist: m.Netlist, domains: dict[str, m.Domain]) -> None:
 
 
 def _quantity_hint(domain: m.Domain) -> str:
-    words = {
-        m.Domain.ELECTRICAL: "voltage, current",
-        m.Domain.TRANSLATIONAL: "displacement, velocity, acceleration, force",
-        m.Domain.ROTATIONAL: "angle, angular velocity, angular acceleration, torque",
-    }[domain]
+    words = ", ".join(kind.word for kind in domain.quantity_kinds)
     return f"for {domain.value} parts watch {words}"

@@ -6,8 +6,9 @@ import math
 
 import sympy
 
-from . import model as m
-from .exact import IRRATIONAL_DIGITS
+from lumped import model as m
+from lumped.algebra.exact import IRRATIONAL_DIGITS
+from lumped.figures import in_g
 
 _PREFIXES = [
     (1e12, "T"), (1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"),
@@ -422,9 +423,9 @@ def _bound_text(verdict) -> str:
         upper = short_formula(requirement.upper)
     if requirement.quantity.kind is m.QuantityKind.ACCELERATION:
         if lower_value is not None:
-            lower = f"{lower} ({lower_value / 9.80665:.3g} g)"
+            lower = f"{lower} ({in_g(lower_value):.3g} g)"
         if upper_value is not None:
-            upper = f"{upper} ({upper_value / 9.80665:.3g} g)"
+            upper = f"{upper} ({in_g(upper_value):.3g} g)"
     if lower and upper:
         return f"between {lower} and {upper}"
     if upper:
@@ -444,7 +445,7 @@ def verdict_line(verdict, colour=lambda text, _style: text) -> str:
     else:
         value = f"{verdict.value * 100:.3g} %" if unit == "%" else engineering(verdict.value, unit)
         if requirement.quantity.kind is m.QuantityKind.ACCELERATION:
-            value += f" ({verdict.value / 9.80665:.3g} g)"
+            value += f" ({in_g(verdict.value):.3g} g)"
         margin = ""
         if verdict.margin is not None:
             margin_text = (f"{verdict.margin * 100:.3g} %" if unit == "%"
@@ -538,7 +539,7 @@ def render(analysis, *, color: bool = False, quiet: bool = False) -> str:
                 rows.append(("maximum compression", f"{engineering(drop.max_compression, 'm')} "
                              f"at {engineering(drop.compression_time, 's')}"))
             if drop.peak_deceleration is not None:
-                rows.append(("peak deceleration", f"{drop.peak_deceleration / 9.80665:.3g} g "
+                rows.append(("peak deceleration", f"{in_g(drop.peak_deceleration):.3g} g "
                              f"({engineering(drop.peak_deceleration, 'm/s^2')}) at "
                              f"{engineering(drop.deceleration_time, 's')}"))
             if drop.separation_time is not None:
@@ -611,7 +612,7 @@ def transfer_text(tf) -> str:
     Examples
     --------
     >>> from lumped.api import loads
-    >>> from lumped.equations import assemble
+    >>> from lumped.network.equations import assemble
     >>> net = loads("voltage source V at a step 1 V\\nresistor R from a to b 1 kohm\\n"
     ...             "capacitor C from b to ground 1 uF\\nwatch voltage at b\\n")
     >>> text = transfer_text(assemble(net).transfer_function("V", net.watches[0]))

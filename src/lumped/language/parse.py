@@ -28,9 +28,8 @@ from lark.exceptions import (
     VisitError,
 )
 
-from . import model as m
-from .errors import Location, NetlistError
-from .exact import (
+from lumped import model as m
+from lumped.algebra.exact import (
     LARGEST_VALUE,
     LONGEST_WINDOW,
     NARROWEST_BAND,
@@ -38,12 +37,12 @@ from .exact import (
     WIDEST_BAND,
     rationalise,
 )
-from .units import (
+from lumped.constants import STANDARD_GRAVITY
+from lumped.errors import Location, NetlistError, UnitError
+from lumped.language.units import (
     DIMENSIONLESS,
-    STANDARD_GRAVITY,
     Dims,
     SIValue,
-    UnitError,
     describe,
     dims_of,
     multiply,
@@ -90,14 +89,14 @@ def _grammar_text() -> str:
         return resources.files("lumped.grammar").joinpath("lumped.lark").read_text("utf-8")
     except (ModuleNotFoundError, FileNotFoundError, TypeError):
         # Running from a source checkout without installing: grammar/ beside src/.
-        here = Path(__file__).resolve().parents[2] / "grammar" / "lumped.lark"
+        here = Path(__file__).resolve().parents[3] / "grammar" / "lumped.lark"
         return here.read_text("utf-8")
 
 
 @cache
 def parser() -> Lark:
     """The lark parser for the netlist language (built once; tables cached on disk)."""
-    from .cachedir import cache_folder
+    from lumped.cachedir import cache_folder
 
     options = {"parser": "lalr", "lexer": "contextual", "propagate_positions": True,
                "maybe_placeholders": False}
@@ -899,9 +898,9 @@ class _ModelBuilder:
         """The exact SI value of ``expr``, checked for its unit, reality and range.
 
         Every value read from the text passes here: it must be real and lie in
-        the documented range (:mod:`lumped.exact`).  Values stay exact (``pi``
+        the documented range (:mod:`lumped.algebra.exact`).  Values stay exact (``pi``
         stays ``pi``); where one is irrational its place is noted, since the
-        algebra takes it at :data:`~lumped.exact.IRRATIONAL_DIGITS` digits.
+        algebra takes it at :data:`~lumped.algebra.exact.IRRATIONAL_DIGITS` digits.
         """
         expected = dims_of(unit)
         _check_rotation_units(expr, unit, what)

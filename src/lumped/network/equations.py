@@ -67,10 +67,10 @@ from sympy.polys.constructor import construct_domain
 from sympy.polys.matrices import DomainMatrix
 from sympy.polys.matrices.exceptions import DMNonInvertibleMatrixError
 
-from . import waveforms
-from .errors import SolveError, ValidationError
-from .exact import rationalise
-from .model import (
+from lumped.algebra.exact import rationalise
+from lumped.constants import STANDARD_GRAVITY, s
+from lumped.errors import SolveError, ValidationError
+from lumped.model import (
     FRAME,
     GROUND,
     REFERENCE_NODES,
@@ -81,37 +81,15 @@ from .model import (
     Kind,
     Netlist,
     Quantity,
-    QuantityKind,
     Role,
 )
-from .topology import DATUM as _DATUM  # the merged reference node of the graphs
-from .topology import falling_masses, joined_graph
-from .waveforms import Piece
-
-s = waveforms.s
-
-STANDARD_GRAVITY = sympy.Rational(980665, 100000)  # m/s^2, the conventional standard value
-
+from lumped.network import sources as waveforms
+from lumped.network.sources import Piece
+from lumped.topology import DATUM as _DATUM  # the merged reference node of the graphs
+from lumped.topology import falling_masses, joined_graph
 
 _ORIGINS = ("source", "initial", "gravity", "drop")
 _ZERO_STATE = ("source", "gravity")
-
-_ACROSS_KIND = {
-    Domain.ELECTRICAL: QuantityKind.VOLTAGE,
-    Domain.TRANSLATIONAL: QuantityKind.VELOCITY,
-    Domain.ROTATIONAL: QuantityKind.ANGULAR_VELOCITY,
-}
-_ACROSS_WORD = {
-    Domain.ELECTRICAL: "voltage",
-    Domain.TRANSLATIONAL: "velocity",
-    Domain.ROTATIONAL: "angular velocity",
-}
-_THROUGH_WORD = {
-    Domain.ELECTRICAL: "current",
-    Domain.TRANSLATIONAL: "force",
-    Domain.ROTATIONAL: "torque",
-}
-
 
 # --------------------------------------------------------------------------- results
 
@@ -425,7 +403,7 @@ def _plan(netlist: Netlist) -> _Plan:
             admittance[name] = (sympy.Integer(0), value)
             b.admittance(a, c, 0, value)
             column = {a: value, c: -value}
-            add_store_inputs(element, column, _ACROSS_WORD[element.domain])
+            add_store_inputs(element, column, element.domain.across_kind.word)
         elif role is Role.THROUGH_STORE:
             value = _value(element)
             k = b.branch(("branch", name), a, c)
@@ -438,7 +416,7 @@ def _plan(netlist: Netlist) -> _Plan:
                 b.across_row(k, a, c, value)
                 b.add(k, k, 0, -1)
                 column = {k: sympy.Integer(-1)}
-            add_store_inputs(element, column, _THROUGH_WORD[element.domain])
+            add_store_inputs(element, column, element.domain.through_kind.word)
         elif role is Role.DISSIPATOR:
             value = _value(element)
             if element.kind is Kind.RESISTOR and (not _is_number(value) or value == 0):
@@ -943,7 +921,7 @@ class Solution:
         domain = self._domains.get(node)
         if domain is None:
             raise ValidationError(f"there is no node named {node!r}")
-        return Quantity(_ACROSS_KIND[domain], node, "at")
+        return Quantity(domain.across_kind, node, "at")
 
     # ----- responses
 
@@ -1126,8 +1104,8 @@ class Solution:
                 raise ValidationError(
                     f"{element.name} is a {element.kind.word}: it has no {kind.word}",
                     quantity.location,
-                    hint=f"ask for its {_ACROSS_WORD[element.domain]} "
-                    f"or {_THROUGH_WORD[element.domain]}",
+                    hint=f"ask for its {element.domain.across_kind.word} "
+                    f"or {element.domain.through_kind.word}",
                 )
             if kind.is_through:
                 return self._through_form(element)
@@ -1149,7 +1127,7 @@ class Solution:
             raise ValidationError(
                 f"node {target} is {domain.value}: it has no {kind.word}",
                 quantity.location,
-                hint=f"ask for the {_ACROSS_WORD[domain]} at {target}",
+                hint=f"ask for the {domain.across_kind.word} at {target}",
             )
         return _Form(self._across(target, REFERENCE_NODES[0]), order=order)
 
@@ -1170,7 +1148,7 @@ class Solution:
         if element.kind.role is Role.THROUGH_SOURCE:
             return _Form({}, {plan.source_inputs[name]: sympy.Integer(1)})
         raise ValidationError(
-            f"cannot take the {_THROUGH_WORD[element.domain]} in {name}", element.location
+            f"cannot take the {element.domain.through_kind.word} in {name}", element.location
         )
 
     def _coupling_form(self, quantity: Quantity, coupling: Coupling, order: int) -> _Form:
@@ -1533,10 +1511,10 @@ def _initial_notes(netlist: Netlist, plan: _Plan, extra: dict[str, sympy.Expr]) 
                 loop = {data["name"]} | (_tree_path(parent, a) ^ _tree_path(parent, b))
                 domain = e.domain
                 notes.append(
-                    f"the initial {_ACROSS_WORD[domain]}s of "
+                    f"the initial {domain.across_kind.word}s of "
                     + ", ".join(sorted(loop))
                     + " do not add up around their loop (KVL): the stores share them at once, "
-                    f"with an impulse of {_THROUGH_WORD[domain]} at t = 0"
+                    f"with an impulse of {domain.through_kind.word} at t = 0"
                 )
 
     # KCL: super-nodes joined by everything but through stores and through sources.
@@ -1564,11 +1542,11 @@ def _initial_notes(netlist: Netlist, plan: _Plan, extra: dict[str, sympy.Expr]) 
         if crossing and not unknown and sympy.simplify(total) != 0:
             domain = netlist.element(crossing[0]).domain
             notes.append(
-                f"the initial {_THROUGH_WORD[domain]}s of "
+                f"the initial {domain.through_kind.word}s of "
                 + ", ".join(sorted(crossing))
                 + " do not balance (KCL) at "
                 + ", ".join(sorted(component))
-                + f": expect an impulse of {_ACROSS_WORD[domain]} at t = 0"
+                + f": expect an impulse of {domain.across_kind.word} at t = 0"
             )
     return notes
 
@@ -1744,7 +1722,6 @@ def assemble(netlist: Netlist) -> Solution:
 
 
 __all__ = [
-    "STANDARD_GRAVITY",
     "Contribution",
     "Response",
     "SecondOrderFactor",

@@ -16,24 +16,14 @@ from functools import cache
 
 import sympy
 
+from lumped.errors import UnitError
+
 Dims = tuple[tuple[str, int], ...]
 DIMENSIONLESS: Dims = ()
 
-# Standard gravity, exact by definition (CGPM 1901).
-STANDARD_GRAVITY = sympy.Rational(980665, 100000)
 
 _ATOM = re.compile(r"(%|(?:µ|Ω|°|[A-Za-z])[A-Za-z0-9µΩ°_]*)(?:\^(-?\d+))?$")
 _SPLIT = re.compile(r"([*/·])")
-
-
-class UnitError(ValueError):
-    """A unit word pint does not know; ``offset``/``width`` point into the unit text."""
-
-    def __init__(self, message: str, offset: int, width: int, hint: str) -> None:
-        super().__init__(message)
-        self.offset = offset
-        self.width = width
-        self.hint = hint
 
 
 @cache
@@ -41,7 +31,7 @@ def registry():
     """The shared pint registry (built once: it takes a noticeable fraction of a second)."""
     import pint
 
-    from .cachedir import cache_folder
+    from lumped.cachedir import cache_folder
 
     # pint can keep its parsed definitions in a cache; that saves most of the
     # registry's build time on every later run.  Without a writable cache

@@ -59,9 +59,9 @@ from typing import Any, Protocol
 
 import numpy as np
 
-from .model import Domain, Figure, QuantityKind, Requirement
+from lumped.constants import STANDARD_GRAVITY_SI
+from lumped.model import Domain, Figure, QuantityKind, Requirement
 
-STANDARD_GRAVITY = 9.80665  # m/s^2, the conventional standard value of g
 """Standard acceleration of gravity in m/s^2, used by :func:`in_g`."""
 
 # Tolerance for classifying poles at the origin (they arrive as floating-point numbers
@@ -261,7 +261,7 @@ def in_g(value: float) -> float:
     >>> in_g(9.80665)
     1.0
     """
-    return float(value) / STANDARD_GRAVITY
+    return float(value) / STANDARD_GRAVITY_SI
 
 
 def _fmt(value: float) -> str:

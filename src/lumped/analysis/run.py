@@ -26,13 +26,13 @@ from dataclasses import dataclass
 
 import sympy
 
-from . import model as m
-from .equations import Response, Solution, assemble, s
-from .errors import NetlistError, UnknownQuantityError
-from .figures import Figures, Verdict, compute_figures, energy_dissipated, judge
-from .inversion import ParametersNeeded, TimeResponse, invert
-from .topology import falling_masses, validate
-from .units import STANDARD_GRAVITY
+from lumped import model as m
+from lumped.constants import STANDARD_GRAVITY
+from lumped.errors import NetlistError, ParametersNeeded, UnknownQuantityError
+from lumped.figures import Figures, Verdict, compute_figures, energy_dissipated, judge
+from lumped.inversion import TimeResponse, invert
+from lumped.network.equations import Response, Solution, assemble, s
+from lumped.topology import falling_masses, validate
 
 # Extra-low-voltage limit for DC (common practice, from memory: 60 V ripple-free DC).
 ELV_DC_LIMIT = 60.0
@@ -391,12 +391,9 @@ def analyse(netlist: m.Netlist) -> Analysis:
 
 def _default_quantities(netlist: m.Netlist) -> list[m.Quantity]:
     """Without watch lines: the across value of every node."""
-    words = {m.Domain.ELECTRICAL: m.QuantityKind.VOLTAGE,
-             m.Domain.TRANSLATIONAL: m.QuantityKind.DISPLACEMENT,
-             m.Domain.ROTATIONAL: m.QuantityKind.ANGULAR_VELOCITY}
     topology = validate(netlist)
-    return [m.Quantity(words[domain], node, "at") for node, domain in topology.domains.items()
-            if node not in m.REFERENCE_NODES]
+    return [m.Quantity(domain.watched_by_default, node, "at")
+            for node, domain in topology.domains.items() if node not in m.REFERENCE_NODES]
 
 
 def _dissipation(netlist: m.Netlist, solution: Solution, start: float,
@@ -408,10 +405,8 @@ def _dissipation(netlist: m.Netlist, solution: Solution, start: float,
     for element in dissipators:
         if element.value is None or element.value.free_symbols:
             continue
-        through = {m.Domain.ELECTRICAL: m.QuantityKind.CURRENT,
-                   m.Domain.TRANSLATIONAL: m.QuantityKind.FORCE,
-                   m.Domain.ROTATIONAL: m.QuantityKind.TORQUE}[element.domain]
-        response = solution.response(m.Quantity(through, element.name, "in"))
+        through = m.Quantity(element.domain.through_kind, element.name, "in")
+        response = solution.response(through)
         try:
             time = _invert(response)
         except ParametersNeeded:

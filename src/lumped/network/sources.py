@@ -33,9 +33,8 @@ from dataclasses import dataclass
 
 import sympy
 
-from .model import Shape, Waveform, WaveformTerm
-
-s = sympy.Symbol("s")
+from lumped.constants import s
+from lumped.model import Shape, Waveform, WaveformTerm
 
 
 @dataclass(frozen=True)

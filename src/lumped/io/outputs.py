@@ -20,10 +20,11 @@ import numpy as np
 import sympy
 from sympy.printing.latex import LatexPrinter
 
-from . import __version__
-from . import model as m
-from .errors import NetlistError
-from .report import engineering, numeric, render
+from lumped import __version__
+from lumped import model as m
+from lumped.errors import NetlistError
+from lumped.figures import in_g
+from lumped.io.text import engineering, numeric, render
 
 JSON_SCHEMA_VERSION = 1
 
@@ -236,7 +237,7 @@ def to_json(analysis) -> str:
             "max_compression": _number(d.max_compression),
             "compression_time": _number(d.compression_time),
             "peak_deceleration": _number(d.peak_deceleration),
-            "peak_deceleration_g": _number(d.peak_deceleration / 9.80665)
+            "peak_deceleration_g": _number(in_g(d.peak_deceleration))
             if d.peak_deceleration is not None else None,
             "deceleration_time": _number(d.deceleration_time),
             "separation_time": _number(d.separation_time),
@@ -365,8 +366,8 @@ def plot(analysis, path: Path, count: int = 2001) -> bytes:
 
 def _refuse_unsampled(analysis, what: str) -> None:
     """Refuse sampled output while a watched response depends on a parameter without a value."""
-    from .equations import s
-    from .parse import example_value
+    from lumped.language.parse import example_value
+    from lumped.network.equations import s
 
     needed = set()
     for result in analysis.results:

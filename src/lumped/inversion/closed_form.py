@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import functools
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -36,30 +36,14 @@ import sympy
 from flint import acb, acb_poly, ctx, fmpq, fmpq_poly, fmpz_poly
 from sympy.core.parameters import distribute
 
-from .exact import IRRATIONAL_DIGITS, rationalise
+from lumped.algebra.exact import IRRATIONAL_DIGITS, rationalise
+from lumped.constants import t
+from lumped.errors import ParametersNeeded
 
-__all__ = ["Impulse", "Mode", "ParametersNeeded", "TimeResponse", "invert"]
+__all__ = ["DEFAULT_T", "Impulse", "Mode", "TimeResponse", "invert"]
 
 #: Default time symbol used when ``invert`` is called without ``t``.
-DEFAULT_T = sympy.Symbol("t", real=True)
-
-
-class ParametersNeeded(Exception):  # noqa: N818 (name fixed by the interface)
-    """Raised when a result needs numeric values for free parameters.
-
-    Attributes
-    ----------
-    parameters : frozenset of sympy.Symbol
-        The parameters that need values.
-    """
-
-    def __init__(self, parameters: Iterable[sympy.Symbol], reason: str = "") -> None:
-        self.parameters = frozenset(parameters)
-        names = ", ".join(sorted(str(p) for p in self.parameters))
-        message = f"values needed for parameter(s): {names}"
-        if reason:
-            message += f" ({reason})"
-        super().__init__(message)
+DEFAULT_T = t
 
 
 # ---------------------------------------------------------------------------
@@ -289,7 +273,7 @@ class TimeResponse:
         Significant digits of numeric results.
     rounded : bool
         True when irrational numbers in the transform were taken as rationals of
-        :data:`lumped.exact.IRRATIONAL_DIGITS` significant digits.
+        :data:`lumped.algebra.exact.IRRATIONAL_DIGITS` significant digits.
     """
 
     modes: tuple[Mode, ...]
