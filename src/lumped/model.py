@@ -16,9 +16,10 @@ element to B (current, force, torque).  A one-terminal form ``at N`` means
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from enum import Enum
 from fractions import Fraction
+from types import MappingProxyType
 
 import sympy
 
@@ -28,6 +29,15 @@ GROUND = "ground"
 FRAME = "frame"
 REFERENCE_NODES = (GROUND, FRAME)
 ZERO = sympy.Integer(0)  # sympy integers are immutable, so a shared default is safe
+DEFAULT_SETTLING_BAND = sympy.Rational(2, 100)  # 2 %, where no `settling band` line says
+
+
+def _freeze(record: object, *names: str) -> None:
+    """Make sequence fields tuples, so a record built from lists is as immutable as any."""
+    for name in names:
+        value = getattr(record, name)
+        if not isinstance(value, tuple):
+            object.__setattr__(record, name, tuple(value))  # the frozen class's own idiom
 
 
 class Domain(Enum):
@@ -222,6 +232,9 @@ class Waveform:
     terms: tuple[WaveformTerm, ...]
     location: Location | None = None
 
+    def __post_init__(self) -> None:
+        _freeze(self, "terms")
+
 
 @dataclass(frozen=True)
 class Parameter:
@@ -347,12 +360,12 @@ class QuantityKind(Enum):
         raise KeyError(word)
 
 
-_DOMAIN_KINDS = {  # across, through, watched without watch lines
+_DOMAIN_KINDS = MappingProxyType({  # across, through, watched without watch lines
     Domain.ELECTRICAL: (QuantityKind.VOLTAGE, QuantityKind.CURRENT, QuantityKind.VOLTAGE),
     Domain.TRANSLATIONAL: (QuantityKind.VELOCITY, QuantityKind.FORCE, QuantityKind.DISPLACEMENT),
     Domain.ROTATIONAL: (QuantityKind.ANGULAR_VELOCITY, QuantityKind.TORQUE,
                         QuantityKind.ANGULAR_VELOCITY),
-}
+})
 
 
 @dataclass(frozen=True)
@@ -439,7 +452,17 @@ class Window:
 
 @dataclass(frozen=True)
 class Netlist:
-    """One netlist: the network, its sources, what to watch and the requirements."""
+    """One netlist: the network, its sources, what to watch and the requirements.
+
+    Immutable, like every record it holds: sequences are tuples (lists given
+    are made tuples), so later stages can share it without copying.
+
+    Examples
+    --------
+    >>> net = Netlist("ex", "", elements=[make_element("R1", "resistor", "a", "ground", 5)])
+    >>> net.elements[0].value, type(net.elements).__name__, net.nodes
+    (5, 'tuple', ('a', 'ground'))
+    """
 
     source: str
     text: str
@@ -449,11 +472,15 @@ class Netlist:
     watches: tuple[Quantity, ...] = ()
     requirements: tuple[Requirement, ...] = ()
     window: Window | None = None
-    settling_band: sympy.Expr = field(default_factory=lambda: sympy.Rational(2, 100))
+    settling_band: sympy.Expr = DEFAULT_SETTLING_BAND
     gravity: Gravity | None = None
     drops: tuple[Drop, ...] = ()
     # Where a value is irrational (pi, sqrt(2)): the algebra takes it at 40 digits.
     rounded: tuple[Location, ...] = ()
+
+    def __post_init__(self) -> None:
+        _freeze(self, "parameters", "elements", "couplings", "watches", "requirements",
+                "drops", "rounded")
 
     def element(self, name: str) -> Element | None:
         for element in self.elements:
