@@ -1,7 +1,7 @@
 """Messages for common slips: each names the place, says what is wrong and what to do.
 
-The slip catalogue is the parser's own (``lumped.parse._EXAMPLES``): every example in it
-must be given the label it is listed under.
+The slip catalogue is the parser's own (``lumped.language.SLIP_EXAMPLES``): every example in
+it must be given the label it is listed under.
 """
 
 from __future__ import annotations
@@ -16,9 +16,11 @@ from lumped.analysis import analyse
 from lumped.api import loads
 from lumped.cli import main
 from lumped.errors import LumpedError, NetlistError, UnknownQuantityError
-from lumped.language.parse import _EXAMPLES
+from lumped.language import SLIP_EXAMPLES
 
-CATALOGUE = [(label, example) for label, examples in _EXAMPLES.items() for example in examples]
+CATALOGUE = [
+    (label, example) for label, examples in SLIP_EXAMPLES.items() for example in examples
+]
 
 
 @pytest.mark.parametrize("label, example", CATALOGUE,

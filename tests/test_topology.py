@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from lumped.errors import ValidationError
-from lumped.language.parse import parse_text
+from lumped.language import parse_text
 from lumped.topology import validate
 
 
