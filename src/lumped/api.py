@@ -15,7 +15,7 @@ from pathlib import Path
 
 from lumped import model as m
 from lumped.errors import NetlistError
-from lumped.language import load_file, parse_text
+from lumped.language.parse import load_file, parse_text
 from lumped.topology import validate
 
 

@@ -49,7 +49,7 @@ def validate(netlist: m.Netlist) -> Topology:
 
     Examples
     --------
-    >>> from lumped.language import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("resistor R from a to ground 1 ohm\\ncurrent source I at a step 1 A\\n")
     >>> validate(net).domains["a"].value
     'electrical'
@@ -90,7 +90,7 @@ def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
 
     Examples
     --------
-    >>> from lumped.language import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("mass box 8 kg\\nmass gauge 1 kg\\n"
     ...                  "spring Kpad from box to frame 80 kN/m\\n"
     ...                  "spring Kiso from gauge to box 20 kN/m\\ndrop box from 1 m\\n")
@@ -235,7 +235,7 @@ def joined_graph(netlist: m.Netlist, *, without: tuple[m.Role, ...],
 
     Examples
     --------
-    >>> from lumped.language import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("current source I at a step 1 A\\nresistor R from a to ground 1 ohm\\n")
     >>> sorted(joined_graph(net, without=(m.Role.THROUGH_SOURCE,),
     ...                     couplings_join_ports=True).edges)

@@ -366,7 +366,7 @@ def plot(analysis, path: Path, count: int = 2001) -> bytes:
 
 def _refuse_unsampled(analysis, what: str) -> None:
     """Refuse sampled output while a watched response depends on a parameter without a value."""
-    from lumped.language import example_value
+    from lumped.language.parse import example_value
     from lumped.network.equations import s
 
     needed = set()

@@ -25,6 +25,11 @@ from lumped.language.grammar import FILE_EXTENSION, parser
 from lumped.language.prepare import prepare_text
 from lumped.language.syntax import LetValue
 from lumped.language.transform import statements_from_tree
+from lumped.language.values import example_value
+
+# The package (``lumped.language``) is where these are public; ``example_value`` is
+# importable from here as well, where other stages import it from.
+__all__ = ["example_value", "load_file", "parse_text"]
 
 
 def _override_expressions(values: Mapping[str, str]) -> Mapping[str, Override]:
