@@ -150,7 +150,7 @@ def test_axis_roots_certified_even_from_loose_enclosures(monkeypatch):
     # u^2 + 3 u + 1 has two negative roots (quadratic formula, from memory).
     from flint import acb, arb
 
-    import lumped.inversion.closed_form as inversion
+    import lumped.inversion.roots as inversion
 
     original = inversion._certified_roots
 
