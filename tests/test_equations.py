@@ -12,9 +12,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from lumped import model as m
-from lumped.constants import STANDARD_GRAVITY
+from lumped.constants import STANDARD_GRAVITY, s
 from lumped.errors import SolveError, ValidationError
-from lumped.network.equations import assemble, s
+from lumped.network import assemble
 
 Q = sympy.Rational
 POS = {"positive": True}
