@@ -16,7 +16,8 @@ import sympy
 
 from lumped.api import loads
 from lumped.cli import main
-from lumped.network.equations import assemble, s
+from lumped.constants import s
+from lumped.network import assemble
 
 SYMBOLIC = """\
 let R in ohm

@@ -8,7 +8,7 @@ Typical use from Python::
         print(result.quantity.label, result.figures.peak)
 
 Each stage is usable on its own: :mod:`lumped.language.parse` (text to model),
-:mod:`lumped.topology` (checks), :mod:`lumped.network.equations` (exact s-domain
+:mod:`lumped.topology` (checks), :mod:`lumped.network` (exact s-domain
 solution), :mod:`lumped.inversion` (closed-form time response),
 :mod:`lumped.figures` (review figures and verdicts), :mod:`lumped.io.text`.
 """

@@ -16,7 +16,7 @@ from pathlib import Path
 from lumped import model as m
 from lumped.errors import NetlistError
 from lumped.language.parse import load_file, parse_text
-from lumped.topology import validate
+from lumped.topology import Topology, validate
 
 
 def loads(text: str, source: str = "<text>", values: dict[str, str] | None = None) -> m.Netlist:
@@ -27,9 +27,7 @@ def loads(text: str, source: str = "<text>", values: dict[str, str] | None = Non
     >>> loads("resistor R from a to ground 1 ohm\\n").elements[0].value
     1
     """
-    netlist = parse_text(text, source, values)
-    validate(netlist)
-    return netlist
+    return validate(parse_text(text, source, values)).netlist
 
 
 def load(path: str | Path, values: dict[str, str] | None = None) -> m.Netlist:
@@ -43,9 +41,23 @@ def load(path: str | Path, values: dict[str, str] | None = None) -> m.Netlist:
     >>> load(p).elements[0].kind.word
     'resistor'
     """
-    netlist = load_file(path, values)
-    validate(netlist)
-    return netlist
+    return load_topology(path, values).netlist
+
+
+def load_topology(path: str | Path, values: dict[str, str] | None = None) -> Topology:
+    """Read, parse and validate a netlist file; return the validated network.
+
+    Hand the result to :func:`analyse` so that it is not validated twice.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "r.lumped"
+    >>> _ = p.write_text("resistor R from a to ground 1 ohm\\n")
+    >>> load_topology(p).domains["a"].value
+    'electrical'
+    """
+    return validate(load_file(path, values))
 
 
 def check_outputs(source: Path, outputs: list[Path]) -> None:
@@ -73,11 +85,11 @@ def check_outputs(source: Path, outputs: list[Path]) -> None:
                                hint="create it first or name another place")
 
 
-def analyse(netlist: m.Netlist):
-    """Solve the netlist and compute every watched quantity's response and figures."""
+def analyse(network: m.Netlist | Topology):
+    """Solve a netlist (or a validated Topology) and compute every watched quantity's results."""
     from lumped.analysis import analyse as _analyse
 
-    return _analyse(netlist)
+    return _analyse(network)
 
 
 def emit(analysis, args) -> int:

@@ -132,12 +132,13 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
             raise NetlistError(f"--set {setting!r} is not NAME=VALUE",
                                hint="e.g. --set R=4.7kohm")
         values[name.strip()] = value.strip()
-    netlist = api.load(source, values)
+    topology = api.load_topology(source, values)  # validated once, handed on
+    netlist = topology.netlist
     if args.check:
         from lumped.io.text import network_summary
-        from lumped.network.equations import assemble
+        from lumped.network import assemble
 
-        solution = assemble(netlist)  # a network without a unique solution fails here too
+        solution = assemble(topology)  # a network without a unique solution fails here too
         print(network_summary(netlist))
         for note in solution.notes:
             print(textwrap.fill(note, 80, initial_indent="  note: ", subsequent_indent=" " * 8))
@@ -148,7 +149,7 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
             sources = ", ".join(e.name for e in netlist.elements if e.kind.is_source)
             raise NetlistError(f"--transfer {name}: there is no source of that name",
                                hint=f"the sources are: {sources or 'none'}")
-    analysis = api.analyse(netlist)
+    analysis = api.analyse(topology)
     status = api.emit(analysis, args)
     if args.transfer:
         from lumped.io.text import transfer_text

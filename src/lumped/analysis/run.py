@@ -27,12 +27,12 @@ from dataclasses import dataclass
 import sympy
 
 from lumped import model as m
-from lumped.constants import STANDARD_GRAVITY
+from lumped.constants import STANDARD_GRAVITY, s
 from lumped.errors import NetlistError, ParametersNeeded, UnknownQuantityError
 from lumped.figures import Figures, Verdict, compute_figures, energy_dissipated, judge
 from lumped.inversion import TimeResponse, invert
-from lumped.network.equations import Response, Solution, assemble, s
-from lumped.topology import falling_masses, validate
+from lumped.network import Response, Solution, assemble
+from lumped.topology import Topology, falling_masses, validate
 
 # Extra-low-voltage limit for DC (common practice, from memory: 60 V ripple-free DC).
 ELV_DC_LIMIT = 60.0
@@ -308,23 +308,26 @@ def _quantities(netlist: m.Netlist) -> list[m.Quantity]:
     return list(seen.values())
 
 
-def analyse(netlist: m.Netlist) -> Analysis:
-    """Solve a validated netlist and measure every watched or required quantity.
+def analyse(network: m.Netlist | Topology) -> Analysis:
+    """Solve a network and measure every watched or required quantity.
 
     Parameters
     ----------
-    netlist : Netlist
-        From :func:`lumped.api.load` or :func:`lumped.api.loads`.
+    network : Netlist or Topology
+        A netlist from :func:`lumped.api.load` or :func:`lumped.api.loads`
+        (validated here), or the :class:`~lumped.topology.Topology` that
+        :func:`lumped.topology.validate` returned (not validated again).
 
     Returns
     -------
     Analysis
     """
-    validate(netlist)
-    solution = assemble(netlist)
+    topology = network if isinstance(network, Topology) else validate(network)
+    netlist = topology.netlist
+    solution = assemble(topology)
     quantities = _quantities(netlist)
     if not quantities:
-        quantities = _default_quantities(netlist)
+        quantities = _default_quantities(topology)
     responses = [solution.response(q) for q in quantities]
     times: list[TimeResponse | None] = []
     problems: list[str | None] = []
@@ -389,9 +392,8 @@ def analyse(netlist: m.Netlist) -> Analysis:
     )
 
 
-def _default_quantities(netlist: m.Netlist) -> list[m.Quantity]:
+def _default_quantities(topology: Topology) -> list[m.Quantity]:
     """Without watch lines: the across value of every node."""
-    topology = validate(netlist)
     return [m.Quantity(domain.watched_by_default, node, "at")
             for node, domain in topology.domains.items() if node not in m.REFERENCE_NODES]
 

@@ -366,8 +366,8 @@ def plot(analysis, path: Path, count: int = 2001) -> bytes:
 
 def _refuse_unsampled(analysis, what: str) -> None:
     """Refuse sampled output while a watched response depends on a parameter without a value."""
+    from lumped.constants import s
     from lumped.language.parse import example_value
-    from lumped.network.equations import s
 
     needed = set()
     for result in analysis.results:

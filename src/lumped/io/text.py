@@ -612,7 +612,7 @@ def transfer_text(tf) -> str:
     Examples
     --------
     >>> from lumped.api import loads
-    >>> from lumped.network.equations import assemble
+    >>> from lumped.network import assemble
     >>> net = loads("voltage source V at a step 1 V\\nresistor R from a to b 1 kohm\\n"
     ...             "capacitor C from b to ground 1 uF\\nwatch voltage at b\\n")
     >>> text = transfer_text(assemble(net).transfer_function("V", net.watches[0]))
