@@ -17,6 +17,7 @@ import sympy
 from flint import fmpq, fmpq_poly
 
 from lumped.algebra.exact import IRRATIONAL_DIGITS, rationalise
+from lumped.algebra.roots import to_fmpq_poly
 from lumped.inversion.closed_form import DEFAULT_T, TimeResponse, _Group
 from lumped.inversion.delays import _split_delays
 from lumped.inversion.evaluator import _NumericGroup
@@ -41,11 +42,6 @@ def _exact_number(value: Any) -> sympy.Expr:
     if isinstance(expr, sympy.Basic) and expr.atoms(sympy.Float):
         expr = sympy.nsimplify(expr, rational=True)
     return expr
-
-
-def _to_fmpq_poly(poly: sympy.Poly) -> fmpq_poly:
-    coeffs = poly.all_coeffs()[::-1]
-    return fmpq_poly([fmpq(int(c.p), int(c.q)) for c in coeffs])
 
 
 def _flint_rational(expr: sympy.Expr, s: sympy.Symbol) -> tuple[fmpq_poly, fmpq_poly] | None:
@@ -177,8 +173,8 @@ def invert(
                 numerics = None
                 continue
             pair = (
-                _to_fmpq_poly(sympy.Poly(numer, s, domain=sympy.QQ)),
-                _to_fmpq_poly(sympy.Poly(denom, s, domain=sympy.QQ)),
+                to_fmpq_poly(sympy.Poly(numer, s, domain=sympy.QQ)),
+                to_fmpq_poly(sympy.Poly(denom, s, domain=sympy.QQ)),
             )
         if pair[1].is_zero():
             raise ZeroDivisionError("transform has a zero denominator")

@@ -27,10 +27,19 @@ from typing import Any
 
 import mpmath
 import sympy
-from flint import acb, acb_poly, ctx, fmpq, fmpq_poly
+from flint import acb_poly, ctx, fmpq, fmpq_poly
 
+from lumped.algebra.roots import (
+    certified_roots,
+    integer_coefficients,
+    irreducible_factors,
+    midpoint_mpc,
+    midpoint_mpf,
+    onto_axis,
+    to_mpf,
+    to_rational,
+)
 from lumped.errors import ParametersNeeded
-from lumped.inversion import roots as _roots
 from lumped.inversion.closed_form import Impulse, Mode, _Cases, _Group, _Piece
 from lumped.inversion.evaluator import _NumericGroup
 
@@ -125,23 +134,6 @@ def _series_residues(num_taylor: Sequence[Any], den_taylor: Sequence[Any]) -> li
     return [g[m - 1 - k] for k in range(m)]
 
 
-def _q_to_sympy(value: fmpq) -> sympy.Rational:
-    return sympy.Rational(int(value.p), int(value.q))
-
-
-def _q_to_mpf(value: fmpq) -> mpmath.mpf:
-    return mpmath.mpf(int(value.p)) / int(value.q)
-
-
-def _arb_to_mpf(value: Any) -> mpmath.mpf:
-    man, exp = value.mid().man_exp()
-    return mpmath.mpf((int(man), int(exp)))
-
-
-def _acb_to_mpc(value: acb) -> mpmath.mpc:
-    return mpmath.mpc(_arb_to_mpf(value.real), _arb_to_mpf(value.imag))
-
-
 def _float(value: mpmath.mpf, digits: int) -> sympy.Float:
     return sympy.Float(value, digits)
 
@@ -164,10 +156,10 @@ def _numeric_group(
     if common.degree() > 0:
         num, den = num // common, den // common
     quotient, num = divmod(num, den)
-    impulses = _impulses_from_quotient([_q_to_sympy(c) for c in quotient.coeffs()], delay)
+    impulses = _impulses_from_quotient([to_rational(c) for c in quotient.coeffs()], delay)
     delay_float = float(delay) if delay.is_number else math.nan
 
-    factors = _roots._factor_cached(tuple(den.coeffs()))
+    factors = irreducible_factors(den)
     modes: list[Mode] = []
     pieces: list[_Piece] = []
     numeric_factors = []
@@ -228,26 +220,26 @@ def _exact_modes(
 
     with mpmath.workdps(digits + 10):
         if not isinstance(root, _Quad):
-            exact = tuple(_q_to_sympy(c) for c in coeffs)
-            precise = tuple(mpmath.mpc(_q_to_mpf(c)) for c in coeffs)
-            pole = _q_to_mpf(root)
+            exact = tuple(to_rational(c) for c in coeffs)
+            precise = tuple(mpmath.mpc(to_mpf(c)) for c in coeffs)
+            pole = to_mpf(root)
             modes.append(
-                Mode(complex(pole), _q_to_sympy(root), mult, tuple(complex(c) for c in precise),
+                Mode(complex(pole), to_rational(root), mult, tuple(complex(c) for c in precise),
                      delay_float, delay, False, mpmath.mpc(pole), precise, exact)
             )
-            pieces.append(_Piece("real", _q_to_sympy(root), sympy.Integer(0), exact, ()))
+            pieces.append(_Piece("real", to_rational(root), sympy.Integer(0), exact, ()))
             return
-        alpha, beta = _q_to_sympy(root.x), _q_to_sympy(root.y)
-        root_d = sympy.sqrt(_q_to_sympy(abs(disc)))
-        root_d_mp = mpmath.sqrt(_q_to_mpf(abs(disc)))
+        alpha, beta = to_rational(root.x), to_rational(root.y)
+        root_d = sympy.sqrt(to_rational(abs(disc)))
+        root_d_mp = mpmath.sqrt(to_mpf(abs(disc)))
         if disc > 0:
             for sign in (1, -1):
                 pole_e = alpha + sign * beta * root_d
-                exact = tuple(_q_to_sympy(c.x) + sign * _q_to_sympy(c.y) * root_d for c in coeffs)
+                exact = tuple(to_rational(c.x) + sign * to_rational(c.y) * root_d for c in coeffs)
                 precise = tuple(
-                    mpmath.mpc(_q_to_mpf(c.x) + sign * _q_to_mpf(c.y) * root_d_mp) for c in coeffs
+                    mpmath.mpc(to_mpf(c.x) + sign * to_mpf(c.y) * root_d_mp) for c in coeffs
                 )
-                pole = mpmath.mpc(_q_to_mpf(root.x) + sign * _q_to_mpf(root.y) * root_d_mp)
+                pole = mpmath.mpc(to_mpf(root.x) + sign * to_mpf(root.y) * root_d_mp)
                 modes.append(
                     Mode(complex(pole), pole_e, mult, tuple(complex(c) for c in precise),
                          delay_float, delay, False, pole, precise, exact)
@@ -257,13 +249,13 @@ def _exact_modes(
         # complex pair, upper pole alpha + i*beta*sqrt(|d|) (beta = 1/2 > 0)
         omega = beta * root_d
         pole_e = alpha + sympy.I * omega
-        re_parts = [_q_to_sympy(c.x) for c in coeffs]
-        im_parts = [_q_to_sympy(c.y) * root_d for c in coeffs]
+        re_parts = [to_rational(c.x) for c in coeffs]
+        im_parts = [to_rational(c.y) * root_d for c in coeffs]
         exact = tuple(r + sympy.I * i for r, i in zip(re_parts, im_parts, strict=True))
         precise = tuple(
-            mpmath.mpc(_q_to_mpf(c.x), _q_to_mpf(c.y) * root_d_mp) for c in coeffs
+            mpmath.mpc(to_mpf(c.x), to_mpf(c.y) * root_d_mp) for c in coeffs
         )
-        pole = mpmath.mpc(_q_to_mpf(root.x), _q_to_mpf(root.y) * root_d_mp)
+        pole = mpmath.mpc(to_mpf(root.x), to_mpf(root.y) * root_d_mp)
         modes.append(
             Mode(complex(pole), pole_e, mult, tuple(complex(c) for c in precise),
                  delay_float, delay, True, pole, precise, exact)
@@ -307,16 +299,16 @@ def _ball_modes(
             results = []
             accurate = True
             for factor, mult in factors:
-                roots = _roots._certified_roots(
-                    tuple(int(c * factor.denom()) for c in factor.coeffs()), bits
+                roots = certified_roots(
+                    integer_coefficients(factor), bits
                 )
                 real = [r for r in roots if r.imag.is_zero()]
                 upper = [r for r in roots if r.imag > 0]
                 if len(real) + 2 * len(upper) != factor.degree():
                     accurate = False  # separation not certified yet: refine
                     break
-                upper = _roots._onto_axis(
-                    tuple(int(c * factor.denom()) for c in factor.coeffs()), upper
+                upper = onto_axis(
+                    integer_coefficients(factor), upper
                 )
                 for root, is_pair in [(r, False) for r in real] + [(r, True) for r in upper]:
                     n_t = [num_derivs[j](root) / math.factorial(j) for j in range(mult)]
@@ -340,11 +332,11 @@ def _ball_modes(
             raise ArithmeticError("residues could not be certified to the requested digits")
         with mpmath.workprec(bits):
             for root, is_pair, mult, coeffs in results:
-                pole = _acb_to_mpc(root)
+                pole = midpoint_mpc(root)
                 if not is_pair:
                     pole = mpmath.mpc(pole.real)
                 precise = tuple(
-                    _acb_to_mpc(c) if is_pair else mpmath.mpc(_arb_to_mpf(c.real)) for c in coeffs
+                    midpoint_mpc(c) if is_pair else mpmath.mpc(midpoint_mpf(c.real)) for c in coeffs
                 )
                 sigma = _float(pole.real, digits)
                 if is_pair:
