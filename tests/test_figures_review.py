@@ -19,7 +19,7 @@ from lumped.analysis import analyse
 from lumped.api import loads
 from lumped.figures import compute_figures, energy_dissipated
 from lumped.inversion import invert
-from lumped.io.outputs import to_json
+from lumped.io import to_json
 from lumped.io.text import render
 
 s = sympy.Symbol("s")
@@ -279,7 +279,7 @@ def test_a_million_periods_cost_no_more_than_a_few():
 
 
 def test_plot_marks_both_extremes(tmp_path):
-    from lumped.io.outputs import plot
+    from lumped.io import plot
 
     analysis = analyse(loads(LC_TANK))
     data = plot(analysis, tmp_path / "tank.svg")

@@ -117,7 +117,7 @@ def test_poles_of_a_fourth_order_symbolic_network_are_not_called_none(tmp_path):
 def test_library_csv_and_plot_refuse_symbolic_responses(tmp_path):
     from lumped.analysis import analyse
     from lumped.errors import NetlistError
-    from lumped.io.outputs import plot, to_csv
+    from lumped.io import plot, to_csv
 
     analysis = analyse(loads(SYMBOLIC))
     with pytest.raises(NetlistError, match="R has no value"):
