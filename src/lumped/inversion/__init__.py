@@ -7,8 +7,8 @@ and the one fast evaluator that figures, plots and outputs share.
 
 Modules: :mod:`~lumped.inversion.inverse` (the entry point :func:`invert`),
 :mod:`~lumped.inversion.delays` (delay groups), :mod:`~lumped.inversion.residues`
-(partial fractions and residues), :mod:`~lumped.inversion.roots` (certified
-roots and exact factors), :mod:`~lumped.inversion.closed_form` (the result
+(partial fractions and residues; certified roots and exact factors come from
+:mod:`lumped.algebra.roots`), :mod:`~lumped.inversion.closed_form` (the result
 types and their rendering to sympy), :mod:`~lumped.inversion.evaluator` (the
 numeric evaluator).
 
