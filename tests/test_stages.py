@@ -38,7 +38,8 @@ SNIPPETS = {
         from lumped.language import parse_text
         from lumped.topology import validate
         topology = validate(parse_text("resistor R from a to ground 1 ohm\\n"
-                                       "capacitor C from a to b 1 F\\nresistor Q from b to ground 1 ohm\\n"))
+                                       "capacitor C from a to b 1 F\\n"
+                                       "resistor Q from b to ground 1 ohm\\n"))
         assert set(topology.domains) >= {"a", "b"}
     """,
     "network": """
@@ -105,8 +106,9 @@ def test_io_stage_alone() -> None:
     code = textwrap.dedent("""
         import lumped
         from lumped.io import render
-        text = render(lumped.analyse(lumped.loads("resistor R from a to ground 1 ohm\\n"
-                                                  "capacitor C from a to ground 1 F, initially 1 V\\n")))
+        netlist = lumped.loads("resistor R from a to ground 1 ohm\\n"
+                               "capacitor C from a to ground 1 F, initially 1 V\\n")
+        text = render(lumped.analyse(netlist))
         assert "voltage at a" in text
     """)
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
