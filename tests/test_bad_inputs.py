@@ -12,7 +12,7 @@ from pathlib import Path
 import pytest
 
 from lumped.cli import main
-from lumped.parse import MAX_BYTES
+from lumped.language import MAX_BYTES
 
 SRC = Path(__file__).resolve().parents[1] / "src"
 

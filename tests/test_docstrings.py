@@ -10,8 +10,9 @@ import pytest
 
 import lumped
 
+# Every module of every stage package, not only the top level.
 MODULES = sorted(
-    name for _, name, _ in pkgutil.iter_modules(lumped.__path__, "lumped.")
+    name for _, name, _ in pkgutil.walk_packages(lumped.__path__, "lumped.")
     if not name.endswith((".grammar", ".examples"))
 )
 

@@ -12,8 +12,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from lumped import model as m
-from lumped.equations import STANDARD_GRAVITY, assemble, s
+from lumped.constants import STANDARD_GRAVITY, s
 from lumped.errors import SolveError, ValidationError
+from lumped.network import assemble
 
 Q = sympy.Rational
 POS = {"positive": True}
@@ -668,3 +669,24 @@ def test_kcl_holds_at_every_node(r: list[int], c: list[int], v0: int, point: int
                 out[node] += sign * i
     for n in "abc":
         assert sympy.simplify(out[n] - inj.get(n, 0)) == 0
+
+
+def test_a_validated_topology_is_solved_as_the_netlist_and_results_are_frozen() -> None:
+    import dataclasses
+
+    from lumped.topology import validate
+
+    netlist = net(el("V1", "voltage source", "in", "ground", waveform=step(1)),
+                  el("R1", "resistor", "in", "out", 1), el("C1", "capacitor", "out", "ground", 1))
+    solution = assemble(validate(netlist))
+    # RC low-pass, step 1: 1/(s (s + 1)) (common practice).
+    response = solution.response(qty("voltage", "out"))
+    assert same(response.transform, 1 / (s * (s + 1)))
+    assert same(assemble(netlist).response(qty("voltage", "out")).transform, response.transform)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        solution.notes = ("x",)  # type: ignore[misc]
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        response.transform = s  # type: ignore[misc]
+    with pytest.raises(TypeError):
+        solution.plan.inputs[0].column[0] = 1  # type: ignore[index]
+    assert isinstance(solution.numerators, tuple) and isinstance(response.contributions, tuple)

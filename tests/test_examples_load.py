@@ -6,7 +6,7 @@ from pathlib import Path
 
 import pytest
 
-from lumped.parse import load_file
+from lumped.language import load_file
 from lumped.topology import validate
 
 EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.lumped"))

@@ -13,8 +13,8 @@ import numpy as np
 import pytest
 import sympy
 
+from lumped.constants import STANDARD_GRAVITY_SI as STANDARD_GRAVITY
 from lumped.figures import (
-    STANDARD_GRAVITY,
     Extremum,
     Figures,
     Verdict,
@@ -77,6 +77,23 @@ class StandIn:
             ) * np.exp(m.pole * tau[on])
             out[on] += (2 if m.is_pair else 1) * np.real(value)
         return out
+
+
+def test_figures_are_immutable_and_read_briefly():
+    # 1 - e^{-t/2}(cos wt + sin(wt)/(2w)), zeta = 1/2: overshoot e^{-pi/sqrt(3)} = 16.3 %
+    # (second-order step, from memory)
+    figs = compute_figures(second_order_step(R(1, 2), 1), 0.0, 20.0)
+    with pytest.raises(TypeError):
+        figs.reasons["peak"] = "changed"  # type: ignore[index]
+    assert isinstance(figs.impulses, tuple)
+    shown = repr(figs)
+    assert shown.startswith("Figures(0..20 s: step") and "overshoot 16.3 %" in shown
+    assert "\n" not in shown and len(shown) < 300
+    # a dict given by the caller is copied: changing it later changes nothing
+    reasons = {"peak": "why"}
+    record = Figures(start=0.0, stop=1.0, band=0.02, kind=None, reasons=reasons)
+    reasons["peak"] = "changed"
+    assert record.reasons["peak"] == "why"
 
 
 def test_stand_in_first_order_rise():

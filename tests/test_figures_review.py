@@ -19,8 +19,8 @@ from lumped.analysis import analyse
 from lumped.api import loads
 from lumped.figures import compute_figures, energy_dissipated
 from lumped.inversion import invert
-from lumped.outputs import to_json
-from lumped.report import render
+from lumped.io import to_json
+from lumped.io.text import render
 
 s = sympy.Symbol("s")
 
@@ -150,15 +150,15 @@ def test_axis_roots_certified_even_from_loose_enclosures(monkeypatch):
     # u^2 + 3 u + 1 has two negative roots (quadratic formula, from memory).
     from flint import acb, arb
 
-    import lumped.inversion as inversion
+    import lumped.inversion.residues as inversion
 
-    original = inversion._certified_roots
+    original = inversion.certified_roots
 
     def loose(coefficients, bits):
         return tuple(acb(arb(1e-35, 1e-30), r.imag) if r.real.contains(0) else r
                      for r in original(coefficients, bits))
 
-    monkeypatch.setattr(inversion, "_certified_roots", loose)
+    monkeypatch.setattr(inversion, "certified_roots", loose)
     response = invert(1 / (s**4 + 3 * s**2 + 1), s)
     assert [mode.pole.real for mode in response.modes] == [0.0, 0.0]
     # s^4 + 1 is even too, but u^2 + 1 has no negative root: nothing is moved
@@ -279,7 +279,7 @@ def test_a_million_periods_cost_no_more_than_a_few():
 
 
 def test_plot_marks_both_extremes(tmp_path):
-    from lumped.outputs import plot
+    from lumped.io import plot
 
     analysis = analyse(loads(LC_TANK))
     data = plot(analysis, tmp_path / "tank.svg")

@@ -10,7 +10,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from lumped.errors import NetlistError
-from lumped.parse import MAX_NESTING, MAX_STATEMENTS, parse_text
+from lumped.language import MAX_NESTING, MAX_STATEMENTS, parse_text
 from lumped.topology import validate
 
 EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.lumped"))

@@ -16,7 +16,7 @@ from hypothesis import strategies as st
 from lumped.analysis import analyse
 from lumped.api import loads
 from lumped.errors import LumpedError
-from lumped.report import render
+from lumped.io.text import render
 
 EXAMPLES = sorted((Path(__file__).resolve().parents[1] / "examples").glob("*.lumped"))
 NUMBER = re.compile(r"(?<![\w.])(\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)(?=\s*[A-Za-zµΩ%])")

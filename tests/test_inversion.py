@@ -12,7 +12,8 @@ import numpy as np
 import pytest
 import sympy
 
-from lumped.inversion import Impulse, Mode, ParametersNeeded, TimeResponse, invert
+from lumped.errors import ParametersNeeded
+from lumped.inversion import Impulse, Mode, TimeResponse, invert
 
 s = sympy.Symbol("s")
 t = sympy.Symbol("t", real=True)
@@ -268,6 +269,58 @@ def test_mode_and_interface_types() -> None:
     assert mode.ringing_frequency == pytest.approx(2.0)
     assert mode.time_constant == pytest.approx(1.0)
     assert result.parameters == frozenset()
+
+
+def test_notebook_views_are_short_and_carry_the_closed_form() -> None:
+    # 1/(s(s+2)) = 1/2 - e^{-2t}/2 (partial fractions, worked by hand)
+    result = invert(1 / (s * (s + 2)), s)
+    shown = repr(result)
+    assert "1/2 - exp(-2*t)/2" in shown and "2 modes" in shown and "no parameters" in shown
+    assert "\n" not in shown
+    assert result._repr_latex_() == f"${sympy.latex(result.expression)}$"
+    # a long closed form is cut short; free parameters are named
+    a = sympy.Symbol("a", positive=True)
+    long = invert(1 / ((s + a) * (s**2 + s + 1) * (s**2 + 3 * s + 7)), s)
+    assert len(repr(long)) < 160 and "..." in repr(long) and "parameters a" in repr(long)
+
+
+def test_results_are_immutable() -> None:
+    import dataclasses
+
+    result = invert(sympy.exp(-s) / (s * (s**2 + s + 1)), s)
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        result.modes = ()  # type: ignore[misc]
+    assert isinstance(result.modes, tuple) and isinstance(result.impulses, tuple)
+    assert isinstance(result.parameters, frozenset)
+    for mode in result.modes:
+        assert isinstance(mode.coefficients, tuple)
+        with pytest.raises(dataclasses.FrozenInstanceError):
+            mode.pole = 0j  # type: ignore[misc]
+
+
+def test_derivative_coefficients_are_formed_once_per_order(monkeypatch) -> None:
+    # The evaluator is kept on the response: repeated calls (root refinement,
+    # quadrature) reuse the coefficients of each derivative order.
+    from lumped.inversion import evaluator
+
+    calls = []
+    original = evaluator._derivative_coefficients
+
+    def counted(group, order, digits):
+        calls.append(order)
+        return original(group, order, digits)
+
+    monkeypatch.setattr(evaluator, "_derivative_coefficients", counted)
+    result = invert(1 / (s * (s**2 + s + 1)), s)
+    times = np.array([0.5, 1.0, 2.0])
+    for _ in range(5):
+        first = result.evaluate(times, derivative=1)
+        result.evaluate(times)
+    assert sorted(calls) == [0, 1]
+    # x = 1 - e^{-t/2}(cos wt + sin(wt)/(2w)), w = sqrt(3)/2: x' = e^{-t/2} sin(wt)/w
+    # (differentiated by hand)
+    w = np.sqrt(3) / 2
+    assert first == pytest.approx(np.exp(-times / 2) * np.sin(w * times) / w, rel=1e-13)
 
 
 # ---------------------------------------------------------------------------

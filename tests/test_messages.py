@@ -1,7 +1,7 @@
 """Messages for common slips: each names the place, says what is wrong and what to do.
 
-The slip catalogue is the parser's own (``lumped.parse._EXAMPLES``): every example in it
-must be given the label it is listed under.
+The slip catalogue is the parser's own (``lumped.language.SLIP_EXAMPLES``): every example in
+it must be given the label it is listed under.
 """
 
 from __future__ import annotations
@@ -16,9 +16,11 @@ from lumped.analysis import analyse
 from lumped.api import loads
 from lumped.cli import main
 from lumped.errors import LumpedError, NetlistError, UnknownQuantityError
-from lumped.parse import _EXAMPLES
+from lumped.language import SLIP_EXAMPLES
 
-CATALOGUE = [(label, example) for label, examples in _EXAMPLES.items() for example in examples]
+CATALOGUE = [
+    (label, example) for label, examples in SLIP_EXAMPLES.items() for example in examples
+]
 
 
 @pytest.mark.parametrize("label, example", CATALOGUE,
@@ -140,3 +142,19 @@ def test_the_degree_sign_is_a_degree():
     phase = sign.element("V").waveform.terms[0].phase
     assert phase == word.element("V").waveform.terms[0].phase
     assert sympy.simplify(phase - sympy.pi / 6) == 0
+
+
+def test_a_network_without_a_unique_solution_points_at_the_first_element_named(tmp_path):
+    # A current source into a transformer whose secondary is open: the secondary cannot
+    # carry n i, so the equations are singular (common practice).
+    status, err = _run(tmp_path, "# open secondary\n"
+                                 "current source I1 from ground to p step 1 A\n"
+                                 "resistor R1 at x 1 ohm\n"
+                                 "transformer T1 from p to q ratio 2\n")
+    assert status == 2
+    first, shown, caret, hint = err.strip().splitlines()
+    assert first == (f"{tmp_path / 'f.lumped'}:2:1: the network equations have no unique "
+                     "solution; elements involved: I1, T1")
+    assert shown.strip() == "current source I1 from ground to p step 1 A"
+    assert set(caret.strip()) == {"^"}
+    assert hint.startswith("hint: ")

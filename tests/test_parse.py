@@ -2,11 +2,13 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 import sympy
 from sympy import Rational, Symbol, pi, sqrt
 
 from lumped import model as m
-from lumped.parse import parse_text
+from lumped.language import parse_text
 from lumped.topology import validate
 
 # Exact definitions (from memory, exact by definition): 1 lbf = 4.4482216152605 N,
@@ -414,3 +416,55 @@ def test_names_are_case_sensitive():
 def test_element_location_points_at_its_line():
     net = parse("# one\n\nresistor R from a to ground 1 ohm\n")
     assert (only(net, "R").location.line, only(net, "R").location.column) == (3, 1)
+
+
+# ---- the model handed on is immutable ---------------------------------------------------
+
+
+def _records_and_values(item) -> list:
+    """Every model record reachable from ``item``, and every value it holds."""
+    stack, found = [item], []
+    while stack:
+        current = stack.pop()
+        found.append(current)
+        if dataclasses.is_dataclass(current):
+            stack.extend(getattr(current, f.name) for f in dataclasses.fields(current))
+        elif isinstance(current, tuple):
+            stack.extend(current)
+    return found
+
+
+def test_model_records_are_frozen_and_hold_no_mutable_containers():
+    text = ("let R = 2 kohm\nlet k in N/m\nresistor R1 from a to b R\n"
+            "capacitor C1 from b to ground 1 uF, initially 2 V\n"
+            "voltage source V1 from a to ground step 5 V plus sine 1 V at 50 Hz after 1 ms\n"
+            "transformer T1 from (a, ground) to (c, ground) ratio sqrt(2)\n"
+            "resistor RL from c to ground 1 kohm\n"
+            "mass m1 at body 2 kg\nspring K from body to frame k\ngravity\ndrop m1 from 1 m\n"
+            "watch voltage at b, current in R1\nwindow 10 ms\nsettling band 5 %\n"
+            "require peak of voltage at b below 6 V\n")
+    net = parse(text)
+    items = _records_and_values(net)
+    records = [x for x in items if dataclasses.is_dataclass(x)]
+    assert {type(r).__name__ for r in records} >= {
+        "Netlist", "Parameter", "Element", "Waveform", "WaveformTerm", "Coupling", "Port",
+        "Quantity", "Requirement", "Window", "Gravity", "Drop", "Location"}
+    for record in records:
+        assert type(record).__dataclass_params__.frozen, type(record).__name__
+        first = dataclasses.fields(record)[0].name
+        try:
+            setattr(record, first, None)
+        except dataclasses.FrozenInstanceError:
+            pass
+        else:
+            raise AssertionError(f"{type(record).__name__}.{first} could be reassigned")
+    assert not [x for x in items if isinstance(x, list | dict | set | bytearray)]
+    assert len(net.rounded) == 1  # sqrt(2), noted where it was written
+
+
+def test_a_netlist_built_from_lists_holds_tuples():
+    element = m.make_element("R1", "resistor", "a", "ground", 5)
+    net = m.Netlist("ex", "", elements=[element], watches=[])
+    assert net.elements == (element,) and net.watches == ()
+    wave = m.Waveform([m.WaveformTerm(m.Shape.STEP, sympy.Integer(1))])
+    assert isinstance(wave.terms, tuple)

@@ -16,7 +16,8 @@ import sympy
 
 from lumped.api import loads
 from lumped.cli import main
-from lumped.equations import assemble, s
+from lumped.constants import s
+from lumped.network import assemble
 
 SYMBOLIC = """\
 let R in ohm
@@ -116,7 +117,7 @@ def test_poles_of_a_fourth_order_symbolic_network_are_not_called_none(tmp_path):
 def test_library_csv_and_plot_refuse_symbolic_responses(tmp_path):
     from lumped.analysis import analyse
     from lumped.errors import NetlistError
-    from lumped.outputs import plot, to_csv
+    from lumped.io import plot, to_csv
 
     analysis = analyse(loads(SYMBOLIC))
     with pytest.raises(NetlistError, match="R has no value"):

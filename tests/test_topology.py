@@ -5,7 +5,7 @@ from __future__ import annotations
 import pytest
 
 from lumped.errors import ValidationError
-from lumped.parse import parse_text
+from lumped.language import parse_text
 from lumped.topology import validate
 
 
@@ -174,3 +174,40 @@ def test_rendered_error_shows_file_line_and_caret():
     assert shown.strip() == "capacitor C from a to a 1 uF"
     assert set(caret.strip()) == {"^"}
     assert hint.startswith("hint: ")
+
+
+def test_the_topology_handed_on_is_immutable():
+    import dataclasses
+
+    import networkx as nx
+
+    topology = validate(parse_text("mass box 8 kg\nmass gauge 1 kg\n"
+                                   "spring Kpad from box to frame 80 kN/m\n"
+                                   "spring Kiso from gauge to box 20 kN/m\ndrop box from 1 m\n"))
+    assert topology.falling["box"] == ("box", "gauge")
+    assert topology.netlist.drops[0].mass == "box"
+    with pytest.raises(TypeError):
+        topology.domains["x"] = topology.domains["box"]  # type: ignore[index]
+    with pytest.raises(nx.NetworkXError):
+        topology.graph.add_edge("box", "gauge")
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        topology.netlist = None  # type: ignore[misc]
+
+
+def test_a_port_only_through_sources_hold_is_refused_at_the_source():
+    # The cut-set rule crosses couplings; the equations do not: a floating secondary fed
+    # by a current source has no unique potential (common practice: a floating winding
+    # needs a reference of its own).
+    from lumped.errors import SolveError
+
+    netlist = parse_text("voltage source V1 at p step 1 V\nresistor R1 from p to q 1 ohm\n"
+                         "transformer T1 from (q, ground) to (x, y) ratio 2\n"
+                         "current source I1 from ground to x step 1 A\n"
+                         "resistor R2 from x to y 1 ohm\n", "net.lumped")
+    with pytest.raises(SolveError) as caught:
+        validate(netlist)
+    error = caught.value
+    assert error.message.startswith("nodes x, y reach the reference only through the through "
+                                    "sources I1")
+    assert error.location.line == 4
+    assert error.render().splitlines()[1].strip() == "current source I1 from ground to x step 1 A"

@@ -211,7 +211,7 @@ def test_the_solver_scales_values_beyond_double_precision(capacitance):
     elements = tuple(replace(e, value=capacitance) if e.name == "C1" else e
                      for e in net.elements)
     net = replace(net, elements=elements)
-    from lumped.equations import assemble
+    from lumped.network import assemble
 
     tf = assemble(net).transfer_function("V1", net.watches[0])
     assert tf.poles == (-1 / (1000 * capacitance),)
@@ -244,7 +244,7 @@ def test_values_anywhere_in_range_end_in_a_clear_answer(tmp_path, r, l_value, c,
 
 def test_one_irrational_number_is_one_rational_everywhere():
     # (s + 1)(s^2 + 4 pi^2) expanded must still factor after pi is taken as a rational.
-    from lumped.exact import rationalise
+    from lumped.algebra.exact import rationalise
 
     s = sympy.Symbol("s")
     expanded = sympy.expand((s + 1) * (s**2 + 4 * sympy.pi**2))

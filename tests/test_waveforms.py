@@ -11,7 +11,7 @@ import pytest
 import sympy
 
 from lumped.model import Shape, Waveform, WaveformTerm
-from lumped.waveforms import initial_value, laplace, laplace_term, s, term_pieces
+from lumped.network.sources import initial_value, laplace, laplace_term, s, term_pieces
 
 t = sympy.Symbol("t", positive=True)
 R = sympy.Rational

@@ -1,4 +1,7 @@
-"""The library's front door: load, analyse, and write outputs.
+"""The library's front door: load a netlist and analyse it.
+
+Outputs (the report, JSON, CSV, LaTeX, plot) are :mod:`lumped.io`'s:
+``lumped.io.render(analysis)`` and ``lumped.io.write(analysis, json=...)``.
 
 Examples
 --------
@@ -12,11 +15,14 @@ Examples
 from __future__ import annotations
 
 from pathlib import Path
+from typing import TYPE_CHECKING
 
-from . import model as m
-from .errors import NetlistError
-from .parse import load_file, parse_text
-from .topology import validate
+from lumped import model as m
+from lumped.language.parse import load_file, parse_text
+from lumped.topology import Topology, validate
+
+if TYPE_CHECKING:
+    from lumped.analysis import Analysis
 
 
 def loads(text: str, source: str = "<text>", values: dict[str, str] | None = None) -> m.Netlist:
@@ -43,45 +49,38 @@ def load(path: str | Path, values: dict[str, str] | None = None) -> m.Netlist:
     >>> load(p).elements[0].kind.word
     'resistor'
     """
-    netlist = load_file(path, values)
-    validate(netlist)
-    return netlist
+    return load_topology(path, values).netlist
 
 
-def check_outputs(source: Path, outputs: list[Path]) -> None:
-    """Refuse outputs that would overwrite the input or each other, or land nowhere."""
-    seen: set[Path] = set()
-    try:
-        source_resolved = source.resolve()
-    except OSError:
-        source_resolved = source
-    for output in outputs:
-        resolved = output.resolve()
-        if resolved == source_resolved:
-            raise NetlistError(f"refusing to overwrite the input file {source}",
-                               hint="name a different output file")
-        if resolved.suffix == source.suffix and source.suffix == ".lumped":
-            raise NetlistError(f"refusing to write results into a netlist file ({output})",
-                               hint="name outputs .json, .csv, .png, .svg or .tex")
-        if resolved in seen:
-            raise NetlistError(f"two outputs are both {output}", hint="give each its own file")
-        seen.add(resolved)
-        if resolved.is_dir():
-            raise NetlistError(f"{output} is a folder", hint="name a file to write")
-        if not resolved.parent.is_dir():
-            raise NetlistError(f"the folder for {output} does not exist",
-                               hint="create it first or name another place")
+def load_topology(path: str | Path, values: dict[str, str] | None = None) -> Topology:
+    """Read, parse and validate a netlist file; return the validated network.
+
+    Hand the result to :func:`analyse` so that it is not validated twice.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "r.lumped"
+    >>> _ = p.write_text("resistor R from a to ground 1 ohm\\n")
+    >>> load_topology(p).domains["a"].value
+    'electrical'
+    """
+    return validate(load_file(path, values))
 
 
-def analyse(netlist: m.Netlist):
-    """Solve the netlist and compute every watched quantity's response and figures."""
-    from .analysis import analyse as _analyse
+def analyse(netlist: m.Netlist | Topology) -> Analysis:
+    """Solve the netlist and compute every watched quantity's response and figures.
+
+    A :class:`~lumped.topology.Topology` from :func:`load_topology` is not validated again.
+
+    Examples
+    --------
+    >>> analysis = analyse(loads("current source I at a step 1 mA\\n"
+    ...                          "resistor R from a to ground 1 kohm\\n"))
+    >>> round(analysis.result("voltage at a").figures.final, 9)
+    1.0
+    """
+    # The solving stages load on first use, so that loading alone stays quick.
+    from lumped.analysis import analyse as _analyse
 
     return _analyse(netlist)
-
-
-def emit(analysis, args) -> int:
-    """Print the report and write the requested outputs; return the exit status."""
-    from .outputs import emit as _emit
-
-    return _emit(analysis, args)

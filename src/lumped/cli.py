@@ -1,7 +1,8 @@
 """The `lumped` command: a thin shell over the library.
 
 Exit status: 0 every requirement passes, 1 a requirement fails, 2 bad input
-(nothing is written then).
+(nothing is written then), 3 an internal error.  Options become plain keyword
+arguments of the library here; the library knows nothing of the command line.
 """
 
 from __future__ import annotations
@@ -12,9 +13,10 @@ import sys
 import textwrap
 from pathlib import Path
 
-from .errors import LumpedError, NetlistError
+from lumped.errors import LumpedError, NetlistError, ParametersNeeded
 
 EXIT_PASS, EXIT_FAIL, EXIT_BAD_INPUT, EXIT_INTERNAL = 0, 1, 2, 3
+EXIT_INTERRUPTED = 130  # as a shell reports a program ended by Ctrl-C
 
 _DESCRIPTION = """\
 Solve a lumped electrical or mechanical network exactly: read a netlist
@@ -68,33 +70,55 @@ def _arguments() -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
-    """Run the command line; returns the exit status."""
+    """Run the command line; returns the exit status.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> path = pathlib.Path(tempfile.mkdtemp()) / "r.lumped"
+    >>> _ = path.write_text("resistor R from a to ground 1 ohm\\n")
+    >>> main(["--check", str(path)])  # doctest: +ELLIPSIS
+    Network ...: 1 element, 1 node besides the references
+    ...
+    0
+    """
     args = _arguments().parse_args(argv)
     try:
         return _run(args)
-    except NetlistError as error:
+    except BaseException as error:  # the one place where errors become exit statuses
+        return _failure(error, args.netlist)
+
+
+def _failure(error: BaseException, netlist: str | None) -> int:
+    """Say what went wrong on stderr and return the exit status for it."""
+    if isinstance(error, NetlistError):  # also ValidationError and SolveError
         print(error.render(), file=sys.stderr)
         return EXIT_BAD_INPUT
-    except LumpedError as error:
-        print(f"{args.netlist}: {error}\nhint: the network has no unique solution as written; "
-              "check the elements named above", file=sys.stderr)
+    if isinstance(error, ParametersNeeded):
+        settings = " ".join(f"--set {name}=VALUE" for name in
+                            sorted(str(p) for p in error.parameters))
+        print(f"{netlist}: {error}\nhint: give values on the command line: {settings}",
+              file=sys.stderr)
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
+    if isinstance(error, LumpedError):  # UnitError and the like: still the input's
+        hint = getattr(error, "hint", "")
+        print(f"{netlist}: {error}" + (f"\nhint: {hint}" if hint else ""), file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if isinstance(error, KeyboardInterrupt):
         print("interrupted", file=sys.stderr)
-        return 130
-    except Exception as error:
-        if os.environ.get("LUMPED_DEBUG"):
-            raise
-        print(f"lumped: internal error while working on {args.netlist}: "
-              f"{type(error).__name__}: {error}\n"
-              "this is a bug in lumped, not in your netlist; run with LUMPED_DEBUG=1 for "
-              "details and report it with the netlist", file=sys.stderr)
-        return EXIT_INTERNAL
+        return EXIT_INTERRUPTED
+    if not isinstance(error, Exception) or os.environ.get("LUMPED_DEBUG"):
+        raise error  # SystemExit and the like pass; LUMPED_DEBUG shows the traceback
+    print(f"lumped: internal error while working on {netlist}: "
+          f"{type(error).__name__}: {error}\n"
+          "this is a bug in lumped, not in your netlist; run with LUMPED_DEBUG=1 for "
+          "details and report it with the netlist", file=sys.stderr)
+    return EXIT_INTERNAL
 
 
 def _run(args: argparse.Namespace) -> int:
     if args.syntax:
-        from .reference import language_reference
+        from lumped.language.reference import language_reference
 
         print(language_reference())
         return EXIT_PASS
@@ -102,17 +126,18 @@ def _run(args: argparse.Namespace) -> int:
         print("lumped: name a netlist file, e.g. `lumped examples/switch_node_snubber.lumped`;"
               " see `lumped --help`", file=sys.stderr)
         return EXIT_BAD_INPUT
-    from . import api
+    from lumped.io.files import FEWEST_SAMPLES, MOST_SAMPLES, PLOT_SUFFIXES, check_outputs
 
     source = Path(args.netlist)
     outputs = [Path(p) for p in (args.json, args.csv, args.plot, args.latex) if p]
-    if args.plot and Path(args.plot).suffix.lower() not in (".png", ".svg"):
+    if args.plot and Path(args.plot).suffix.lower() not in PLOT_SUFFIXES:
         raise NetlistError(f"--plot {args.plot}: the plot is written as .png or .svg",
                            hint="name the file with one of those endings")
-    if not 2 <= args.samples <= 10_000_000:
-        raise NetlistError(f"--samples {args.samples}: give between 2 and 10000000 points",
+    if not FEWEST_SAMPLES <= args.samples <= MOST_SAMPLES:
+        raise NetlistError(f"--samples {args.samples}: give between {FEWEST_SAMPLES} and "
+                           f"{MOST_SAMPLES} points",
                            hint="2001 (the default) is plenty for a plot")
-    api.check_outputs(source, outputs)
+    check_outputs(source, outputs)
     try:
         return _solve(args, source)
     except NetlistError as error:
@@ -123,7 +148,7 @@ def _run(args: argparse.Namespace) -> int:
 
 
 def _solve(args: argparse.Namespace, source: Path) -> int:
-    from . import api
+    from lumped import api
 
     values = {}
     for setting in args.set:
@@ -132,12 +157,13 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
             raise NetlistError(f"--set {setting!r} is not NAME=VALUE",
                                hint="e.g. --set R=4.7kohm")
         values[name.strip()] = value.strip()
-    netlist = api.load(source, values)
+    topology = api.load_topology(source, values)  # validated once, handed on
+    netlist = topology.netlist
     if args.check:
-        from .equations import assemble
-        from .report import network_summary
+        from lumped.io.summary import network_summary
+        from lumped.network import assemble
 
-        solution = assemble(netlist)  # a network without a unique solution fails here too
+        solution = assemble(topology)  # a network without a unique solution fails here too
         print(network_summary(netlist))
         for note in solution.notes:
             print(textwrap.fill(note, 80, initial_indent="  note: ", subsequent_indent=" " * 8))
@@ -148,16 +174,39 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
             sources = ", ".join(e.name for e in netlist.elements if e.kind.is_source)
             raise NetlistError(f"--transfer {name}: there is no source of that name",
                                hint=f"the sources are: {sources or 'none'}")
-    analysis = api.analyse(netlist)
-    status = api.emit(analysis, args)
-    if args.transfer:
-        from .report import transfer_text
+    analysis = api.analyse(topology)
+    from lumped import io
 
+    for option in ("csv", "plot"):  # in the options' words, before anything is written
+        if getattr(args, option):
+            io.refuse_unsampled(analysis, f"--{option} {getattr(args, option)}")
+    written = io.write(analysis, json=args.json, csv=args.csv, latex=args.latex,
+                       plot=args.plot, samples=args.samples)
+    _print_report(io.render(analysis, color=_colour(args.color), quiet=args.quiet), written)
+    if args.transfer:
         for name in args.transfer:
             for result in analysis.results:
                 print()
-                print(transfer_text(analysis.solution.transfer_function(name, result.quantity)))
-    return status
+                print(io.transfer_text(analysis.solution.transfer_function(name,
+                                                                           result.quantity)))
+    return EXIT_PASS if analysis.passed else EXIT_FAIL
+
+
+def _colour(choice: str) -> bool:
+    """--color: always, never, or auto (a terminal, unless NO_COLOR is set)."""
+    return choice == "always" or (choice == "auto" and sys.stdout.isatty()
+                                  and os.environ.get("NO_COLOR") is None)
+
+
+def _print_report(report: str, written: tuple[Path, ...]) -> None:
+    try:
+        print(report)
+        for path in written:
+            print(f"wrote {path}")
+        sys.stdout.flush()
+    except BrokenPipeError:
+        # The reader (e.g. `head`) left early; the verdicts still decide the status.
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -8,7 +8,9 @@ under the spot, and a hint saying what to do.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass
+from typing import Any
 
 
 @dataclass(frozen=True)
@@ -131,8 +133,49 @@ class UnknownQuantityError(LumpedError, KeyError):
         return self.message
 
 
-class SolveError(LumpedError):
-    """The equations have no unique solution; the message names the elements."""
+class SolveError(NetlistError):
+    """The equations have no unique solution; the message names the elements.
+
+    Carries the location of the first element it names, where there is one.
+    """
+
+
+class ParametersNeeded(LumpedError):  # noqa: N818 (a request, not a failure)
+    """A result needs numeric values for free parameters.
+
+    Attributes
+    ----------
+    parameters : frozenset of sympy.Symbol
+        The parameters that need values.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> str(ParametersNeeded([sympy.Symbol("R")], "numbers need values"))
+    'values needed for parameter(s): R (numbers need values)'
+    """
+
+    def __init__(self, parameters: Iterable[Any], reason: str = "") -> None:
+        self.parameters = frozenset(parameters)
+        names = ", ".join(sorted(str(p) for p in self.parameters))
+        message = f"values needed for parameter(s): {names}"
+        if reason:
+            message += f" ({reason})"
+        super().__init__(message)
+
+
+class UnitError(LumpedError, ValueError):
+    """A unit word the unit registry does not know.
+
+    ``offset`` and ``width`` point into the unit text; the language stage turns
+    it into a :class:`NetlistError` at the unit's place in the netlist.
+    """
+
+    def __init__(self, message: str, offset: int, width: int, hint: str) -> None:
+        super().__init__(message)
+        self.offset = offset
+        self.width = width
+        self.hint = hint
 
 
 _MAX_SHOWN = 160

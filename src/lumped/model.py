@@ -16,18 +16,28 @@ element to B (current, force, torque).  A one-terminal form ``at N`` means
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from enum import Enum
 from fractions import Fraction
+from types import MappingProxyType
 
 import sympy
 
-from .errors import Location
+from lumped.errors import Location
 
 GROUND = "ground"
 FRAME = "frame"
 REFERENCE_NODES = (GROUND, FRAME)
 ZERO = sympy.Integer(0)  # sympy integers are immutable, so a shared default is safe
+DEFAULT_SETTLING_BAND = sympy.Rational(2, 100)  # 2 %, where no `settling band` line says
+
+
+def _freeze(record: object, *names: str) -> None:
+    """Make sequence fields tuples, so a record built from lists is as immutable as any."""
+    for name in names:
+        value = getattr(record, name)
+        if not isinstance(value, tuple):
+            object.__setattr__(record, name, tuple(value))  # the frozen class's own idiom
 
 
 class Domain(Enum):
@@ -49,6 +59,31 @@ class Domain(Enum):
     @property
     def through_unit(self) -> str:
         return {"electrical": "A", "translational": "N", "rotational": "N*m"}[self.value]
+
+    # The one table from a domain to its quantities (every stage asks here).
+    @property
+    def across_kind(self) -> QuantityKind:
+        """The across quantity a node of this domain holds (voltage, velocity, ...)."""
+        return _DOMAIN_KINDS[self][0]
+
+    @property
+    def through_kind(self) -> QuantityKind:
+        """The through quantity that flows in an element of this domain."""
+        return _DOMAIN_KINDS[self][1]
+
+    @property
+    def watched_by_default(self) -> QuantityKind:
+        """What is watched at each node when a netlist has no watch lines.
+
+        Position, not velocity, for translational nodes: a suspension or drop
+        review reads travel first.
+        """
+        return _DOMAIN_KINDS[self][2]
+
+    @property
+    def quantity_kinds(self) -> tuple[QuantityKind, ...]:
+        """Every quantity that can be watched in this domain."""
+        return tuple(kind for kind in QuantityKind if kind.domain is self)
 
 
 class Role(Enum):
@@ -197,6 +232,9 @@ class Waveform:
     terms: tuple[WaveformTerm, ...]
     location: Location | None = None
 
+    def __post_init__(self) -> None:
+        _freeze(self, "terms")
+
 
 @dataclass(frozen=True)
 class Parameter:
@@ -280,12 +318,12 @@ class QuantityKind(Enum):
 
     VOLTAGE = ("voltage", "V", Domain.ELECTRICAL)
     CURRENT = ("current", "A", Domain.ELECTRICAL)
-    VELOCITY = ("velocity", "m/s", Domain.TRANSLATIONAL)
     DISPLACEMENT = ("displacement", "m", Domain.TRANSLATIONAL)
+    VELOCITY = ("velocity", "m/s", Domain.TRANSLATIONAL)
     ACCELERATION = ("acceleration", "m/s^2", Domain.TRANSLATIONAL)
     FORCE = ("force", "N", Domain.TRANSLATIONAL)
-    ANGULAR_VELOCITY = ("angular velocity", "rad/s", Domain.ROTATIONAL)
     ANGLE = ("angle", "rad", Domain.ROTATIONAL)
+    ANGULAR_VELOCITY = ("angular velocity", "rad/s", Domain.ROTATIONAL)
     ANGULAR_ACCELERATION = ("angular acceleration", "rad/s^2", Domain.ROTATIONAL)
     TORQUE = ("torque", "N*m", Domain.ROTATIONAL)
 
@@ -303,7 +341,7 @@ class QuantityKind(Enum):
 
     @property
     def is_through(self) -> bool:
-        return self in (QuantityKind.CURRENT, QuantityKind.FORCE, QuantityKind.TORQUE)
+        return self is self.domain.through_kind
 
     @property
     def integral_order(self) -> int:
@@ -320,6 +358,14 @@ class QuantityKind(Enum):
             if kind.word == word:
                 return kind
         raise KeyError(word)
+
+
+_DOMAIN_KINDS = MappingProxyType({  # across, through, watched without watch lines
+    Domain.ELECTRICAL: (QuantityKind.VOLTAGE, QuantityKind.CURRENT, QuantityKind.VOLTAGE),
+    Domain.TRANSLATIONAL: (QuantityKind.VELOCITY, QuantityKind.FORCE, QuantityKind.DISPLACEMENT),
+    Domain.ROTATIONAL: (QuantityKind.ANGULAR_VELOCITY, QuantityKind.TORQUE,
+                        QuantityKind.ANGULAR_VELOCITY),
+})
 
 
 @dataclass(frozen=True)
@@ -406,7 +452,17 @@ class Window:
 
 @dataclass(frozen=True)
 class Netlist:
-    """One netlist: the network, its sources, what to watch and the requirements."""
+    """One netlist: the network, its sources, what to watch and the requirements.
+
+    Immutable, like every record it holds: sequences are tuples (lists given
+    are made tuples), so later stages can share it without copying.
+
+    Examples
+    --------
+    >>> net = Netlist("ex", "", elements=[make_element("R1", "resistor", "a", "ground", 5)])
+    >>> net.elements[0].value, type(net.elements).__name__, net.nodes
+    (5, 'tuple', ('a', 'ground'))
+    """
 
     source: str
     text: str
@@ -416,11 +472,15 @@ class Netlist:
     watches: tuple[Quantity, ...] = ()
     requirements: tuple[Requirement, ...] = ()
     window: Window | None = None
-    settling_band: sympy.Expr = field(default_factory=lambda: sympy.Rational(2, 100))
+    settling_band: sympy.Expr = DEFAULT_SETTLING_BAND
     gravity: Gravity | None = None
     drops: tuple[Drop, ...] = ()
     # Where a value is irrational (pi, sqrt(2)): the algebra takes it at 40 digits.
     rounded: tuple[Location, ...] = ()
+
+    def __post_init__(self) -> None:
+        _freeze(self, "parameters", "elements", "couplings", "watches", "requirements",
+                "drops", "rounded")
 
     def element(self, name: str) -> Element | None:
         for element in self.elements:

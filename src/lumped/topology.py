@@ -1,4 +1,4 @@
-"""Topology checks with networkx, before any algebra.
+"""Topology checks with networkx, before any algebra, and the validated network they hand on.
 
 :func:`validate` raises :class:`~lumped.errors.ValidationError` at the first
 problem that would make the equations meaningless or unsolvable, pointing at
@@ -12,32 +12,111 @@ the element (or the watch / require line) concerned:
 - a loop of ideal across sources, or a cut-set of ideal through sources;
 - electrical and mechanical terminals meeting at a node without a coupling;
 - a drop naming something that is not a mass, or the same mass twice.
+
+Then :func:`check_solvable` raises :class:`~lumped.errors.SolveError` for what
+those checks let through and the equations cannot solve (a coupling's port
+that only through sources tie to the reference).  What passes is handed on as
+an immutable :class:`Topology`: the netlist and the graph facts the network
+stage uses (node domains, the masses that fall together, the cut-sets of
+through stores).
 """
 
 from __future__ import annotations
 
 import difflib
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from itertools import pairwise
+from types import MappingProxyType
 
 import networkx as nx
 
-from . import model as m
-from .errors import Location, ValidationError
+from lumped import model as m
+from lumped.errors import Location, SolveError, ValidationError
 
 DATUM = "<reference>"  # every reference node is this one node in the graphs
+
+# What the command line has always said under a network without a unique solution.
+_UNSOLVABLE_HINT = "the network has no unique solution as written; check the elements named above"
 
 
 @dataclass(frozen=True)
 class Topology:
-    """The validated network: each node's domain and the element graph."""
+    """A validated network: the netlist and the graph facts later stages use.
 
-    domains: dict[str, m.Domain]
-    graph: nx.MultiGraph  # datum merged; edges keyed by element name
+    Attributes
+    ----------
+    netlist : Netlist
+        The netlist that passed :func:`validate`.
+    domains : Mapping of str to Domain
+        Each node's domain (the reference nodes aside).
+    graph : networkx.MultiGraph
+        Frozen; the reference nodes merged into :data:`DATUM`, an edge per
+        element and per coupling port, keyed by its name.
+    falling : Mapping of str to tuple of str
+        Each dropped mass, and the masses that fall with it (itself first).
+    through_cut_sets : tuple of frozenset of str
+        The groups of nodes that only through stores and through sources join
+        to the reference (and to each other): the initial through values on
+        each group's boundary must balance.
+
+    Examples
+    --------
+    >>> from lumped.language.parse import parse_text
+    >>> topology = validate(parse_text("resistor R from a to ground 1 ohm\\n"
+    ...                                "inductor L1 from a to b 1 H\\n"
+    ...                                "inductor L2 from b to ground 1 H\\n"))
+    >>> topology.node_domain("ground").value, topology.through_cut_sets
+    ('electrical', (frozenset({'b'}),))
+    """
+
+    netlist: m.Netlist
+    domains: Mapping[str, m.Domain]
+    graph: nx.MultiGraph
+    falling: Mapping[str, tuple[str, ...]]
+    through_cut_sets: tuple[frozenset[str], ...]
+
+    def node_domain(self, node: str) -> m.Domain | None:
+        """The domain of ``node``: ``ground`` is electrical, ``frame`` translational.
+
+        Examples
+        --------
+        >>> from lumped.language.parse import parse_text
+        >>> validate(parse_text("mass b 1 kg\\n")).node_domain("frame").value
+        'translational'
+        """
+        if node == m.GROUND:
+            return m.Domain.ELECTRICAL
+        if node == m.FRAME:
+            return m.Domain.TRANSLATIONAL
+        return self.domains.get(node)
 
 
 def _fail(netlist: m.Netlist, message: str, location: Location | None, hint: str) -> None:
     raise ValidationError(message, location, hint=hint).with_text(netlist.text)
+
+
+def solve_error(netlist: m.Netlist, message: str, named: Sequence[str] = ()) -> SolveError:
+    """A :class:`SolveError` at the first of ``named`` that is an element or coupling.
+
+    The error carries that element's location and the netlist's text, so the
+    message shows the line with a caret.
+
+    Examples
+    --------
+    >>> from lumped.language.parse import parse_text
+    >>> net = parse_text("resistor R from a to ground 1 ohm\\n", "f.lumped")
+    >>> print(solve_error(net, "R cannot be solved", ["R"]).render().splitlines()[0])
+    f.lumped:1:1: R cannot be solved
+    """
+    location = None
+    for name in named:
+        item = netlist.element(name) or netlist.coupling(name)
+        if item is not None and item.location is not None:
+            location = item.location
+            break
+    error = SolveError(message, location, hint=_UNSOLVABLE_HINT)
+    return error.with_text(netlist.text)  # type: ignore[return-value]
 
 
 def _datum(node: str) -> str:
@@ -45,11 +124,29 @@ def _datum(node: str) -> str:
 
 
 def validate(netlist: m.Netlist) -> Topology:
-    """Check a parsed netlist's topology; return node domains and the graph.
+    """Check a parsed netlist's topology once; return it as a :class:`Topology`.
+
+    Parameters
+    ----------
+    netlist : Netlist
+
+    Returns
+    -------
+    Topology
+        The netlist with its node domains, graph, falling assemblies and
+        cut-sets of through stores.
+
+    Raises
+    ------
+    ValidationError
+        At the first rule broken (see the module's description).
+    SolveError
+        When the checks pass but the equations still have no unique solution
+        (:func:`check_solvable`).
 
     Examples
     --------
-    >>> from lumped.parse import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("resistor R from a to ground 1 ohm\\ncurrent source I at a step 1 A\\n")
     >>> validate(net).domains["a"].value
     'electrical'
@@ -77,8 +174,10 @@ def validate(netlist: m.Netlist) -> Topology:
     _check_across_loops(netlist)
     _check_through_cutsets(netlist)
     _check_targets(netlist, domains)
-    _check_drops(netlist)
-    return Topology(domains, graph)
+    falling = _check_drops(netlist)
+    check_solvable(netlist)
+    return Topology(netlist, MappingProxyType(domains), nx.freeze(graph),
+                    MappingProxyType(falling), _through_cut_sets(netlist))
 
 
 def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
@@ -90,7 +189,7 @@ def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
 
     Examples
     --------
-    >>> from lumped.parse import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("mass box 8 kg\\nmass gauge 1 kg\\n"
     ...                  "spring Kpad from box to frame 80 kN/m\\n"
     ...                  "spring Kiso from gauge to box 20 kN/m\\ndrop box from 1 m\\n")
@@ -118,7 +217,9 @@ def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
     return (dropped, *others)
 
 
-def _check_drops(netlist: m.Netlist) -> None:
+def _check_drops(netlist: m.Netlist) -> dict[str, tuple[str, ...]]:
+    """Check the drop lines; return each dropped mass with the masses falling with it."""
+    falling: dict[str, tuple[str, ...]] = {}
     falls_with: dict[str, str] = {}
     seen: set[str] = set()
     masses = [e.name for e in netlist.elements if e.kind is m.Kind.MASS]
@@ -134,13 +235,15 @@ def _check_drops(netlist: m.Netlist) -> None:
             _fail(netlist, f"'{drop.mass}' is dropped twice", drop.location,
                   "keep one drop line per mass")
         seen.add(drop.mass)
-        for body in falling_masses(netlist, drop.mass):
+        falling[drop.mass] = falling_masses(netlist, drop.mass)
+        for body in falling[drop.mass]:
             if body in falls_with:
                 _fail(netlist, f"'{body}' falls with both '{falls_with[body]}' and "
                       f"'{drop.mass}': they are one assembly", drop.location,
                       "keep one drop line per assembly (everything joined to the dropped "
                       "mass without passing through the frame falls with it)")
             falls_with[body] = drop.mass
+    return falling
 
 
 def _check_names(netlist: m.Netlist) -> None:
@@ -235,7 +338,7 @@ def joined_graph(netlist: m.Netlist, *, without: tuple[m.Role, ...],
 
     Examples
     --------
-    >>> from lumped.parse import parse_text
+    >>> from lumped.language.parse import parse_text
     >>> net = parse_text("current source I at a step 1 A\\nresistor R from a to ground 1 ohm\\n")
     >>> sorted(joined_graph(net, without=(m.Role.THROUGH_SOURCE,),
     ...                     couplings_join_ports=True).edges)
@@ -272,6 +375,91 @@ def _check_through_cutsets(netlist: m.Netlist) -> None:
                       f"({element.kind.word} '{element.name}')", element.location,
                       "the sources alone fix the flow into that node; connect it to the rest "
                       "through an element (a resistor, spring, damper ...)")
+
+
+def _through_cut_sets(netlist: m.Netlist) -> tuple[frozenset[str], ...]:
+    # Super-nodes: nodes joined by everything but through stores and through sources.
+    joined = joined_graph(netlist, without=(m.Role.THROUGH_STORE, m.Role.THROUGH_SOURCE),
+                          couplings_join_ports=False)
+    return tuple(frozenset(component) for component in nx.connected_components(joined)
+                 if DATUM not in component)
+
+
+def check_solvable(netlist: m.Netlist) -> None:
+    """Raise SolveError for loops of across sources and nodes with no path to the reference.
+
+    The conditions the equations need, port by port: a coupling ties its two
+    ports' across and through values, not their potentials, so a port whose
+    nodes only through sources tie to the reference has no unique solution
+    even where :func:`validate`'s cut-set rule (which crosses couplings) is met.
+    The messages name the elements; the error points at the first.
+
+    Examples
+    --------
+    >>> from lumped.language.parse import parse_text
+    >>> check_solvable(parse_text("current source I at a step 1 A\\n"
+    ...                           "resistor R from a to ground 1 ohm\\n"))
+    """
+    across = nx.MultiGraph()
+    for element in netlist.elements:
+        if element.kind.role is m.Role.ACROSS_SOURCE:
+            a, b = _datum(element.positive), _datum(element.negative)
+            if a == b:
+                raise solve_error(
+                    netlist,
+                    f"{element.kind.word} {element.name} is shorted: both ends are the same node",
+                    [element.name],
+                )
+            if across.has_node(a) and across.has_node(b) and nx.has_path(across, a, b):
+                path = nx.shortest_path(across, a, b)
+                names = sorted([element.name] + [
+                    next(iter(across.get_edge_data(u, v).values()))["name"]
+                    for u, v in pairwise(path)
+                ])
+                raise solve_error(
+                    netlist,
+                    "across sources " + ", ".join(names)
+                    + " form a loop: their values cannot all hold",
+                    names,
+                )
+            across.add_edge(a, b, name=element.name)
+    held = nx.MultiGraph()
+    held.add_node(DATUM)
+    through_sources: dict[str, list[str]] = {}
+    for element in netlist.elements:
+        a, b = _datum(element.positive), _datum(element.negative)
+        held.add_node(a)
+        held.add_node(b)
+        if element.kind.role is m.Role.THROUGH_SOURCE:
+            through_sources.setdefault(a, []).append(element.name)
+            through_sources.setdefault(b, []).append(element.name)
+        else:
+            held.add_edge(a, b)
+    for coupling in netlist.couplings:
+        for port in (coupling.input, coupling.output):
+            held.add_edge(_datum(port.positive), _datum(port.negative))
+    for component in nx.connected_components(held):
+        if DATUM in component:
+            continue
+        nodes = sorted(component)
+        feeders = sorted({x for node in nodes for x in through_sources.get(node, [])})
+        where = "node " + nodes[0] if len(nodes) == 1 else "nodes " + ", ".join(nodes)
+        if feeders:
+            raise solve_error(
+                netlist,
+                f"{where} reach the reference only through the through sources "
+                f"{', '.join(feeders)}: "
+                "nothing fixes their across values (add a path to ground/frame)"
+                if len(nodes) > 1
+                else f"{where} is fed only by the through source(s) {', '.join(feeders)}: "
+                "nothing fixes its across value (add a path to ground/frame)",
+                feeders,
+            )
+        raise solve_error(
+            netlist,
+            f"{where} have no path to the reference (ground/frame): "
+            "nothing fixes their across values",
+        )
 
 
 _NODE_PREPOSITIONS = ("at", "of")
@@ -320,9 +508,5 @@ def _check_targets(netlist: m.Netlist, domains: dict[str, m.Domain]) -> None:
 
 
 def _quantity_hint(domain: m.Domain) -> str:
-    words = {
-        m.Domain.ELECTRICAL: "voltage, current",
-        m.Domain.TRANSLATIONAL: "displacement, velocity, acceleration, force",
-        m.Domain.ROTATIONAL: "angle, angular velocity, angular acceleration, torque",
-    }[domain]
+    words = ", ".join(kind.word for kind in domain.quantity_kinds)
     return f"for {domain.value} parts watch {words}"

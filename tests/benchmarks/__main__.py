@@ -55,11 +55,13 @@ except ImportError:
 
 from flint import fmpz_poly  # noqa: E402
 
-from lumped.analysis import analyse, rationalise  # noqa: E402
+from lumped.algebra.exact import rationalise  # noqa: E402
+from lumped.analysis import analyse  # noqa: E402
 from lumped.api import loads  # noqa: E402
-from lumped.equations import assemble, s  # noqa: E402
+from lumped.constants import s  # noqa: E402
 from lumped.figures import compute_figures  # noqa: E402
 from lumped.inversion import invert  # noqa: E402
+from lumped.network import assemble  # noqa: E402
 
 REPEATS = 3
 CAS_LIMIT = 60.0  # seconds per ladder/chain case

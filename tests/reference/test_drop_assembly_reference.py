@@ -82,8 +82,8 @@ def test_every_mass_of_the_assembly_arrives_at_the_contact_speed() -> None:
 
 def test_the_report_and_json_name_the_masses_that_fall() -> None:
     analysis = lumped.analyse(lumped.loads(TWO_MASS))
-    from lumped.outputs import to_json
-    from lumped.report import render
+    from lumped.io import to_json
+    from lumped.io.text import render
 
     assert "falling together     package, instrument" in render(analysis)
     assert json.loads(to_json(analysis))["drops"][0]["falling"] == ["package", "instrument"]

@@ -19,7 +19,8 @@ import scipy.signal
 import sympy
 
 from lumped import model as m
-from lumped.equations import STANDARD_GRAVITY, TransferFunction, assemble, s
+from lumped.constants import STANDARD_GRAVITY, s
+from lumped.network import TransferFunction, assemble
 
 Q = sympy.Rational
 t = sympy.Symbol("t", positive=True)

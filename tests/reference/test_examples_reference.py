@@ -30,7 +30,7 @@ from scipy.optimize import minimize_scalar
 
 from lumped.analysis import analyse
 from lumped.api import load, loads
-from lumped.equations import s as lumped_s
+from lumped.constants import s as lumped_s
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 G = 9.80665  # standard gravity, m/s^2 (the conventional value)

@@ -16,24 +16,14 @@ from functools import cache
 
 import sympy
 
+from lumped.errors import UnitError
+
 Dims = tuple[tuple[str, int], ...]
 DIMENSIONLESS: Dims = ()
 
-# Standard gravity, exact by definition (CGPM 1901).
-STANDARD_GRAVITY = sympy.Rational(980665, 100000)
 
 _ATOM = re.compile(r"(%|(?:µ|Ω|°|[A-Za-z])[A-Za-z0-9µΩ°_]*)(?:\^(-?\d+))?$")
 _SPLIT = re.compile(r"([*/·])")
-
-
-class UnitError(ValueError):
-    """A unit word pint does not know; ``offset``/``width`` point into the unit text."""
-
-    def __init__(self, message: str, offset: int, width: int, hint: str) -> None:
-        super().__init__(message)
-        self.offset = offset
-        self.width = width
-        self.hint = hint
 
 
 @cache
@@ -41,7 +31,7 @@ def registry():
     """The shared pint registry (built once: it takes a noticeable fraction of a second)."""
     import pint
 
-    from .cachedir import cache_folder
+    from lumped.cachedir import cache_folder
 
     # pint can keep its parsed definitions in a cache; that saves most of the
     # registry's build time on every later run.  Without a writable cache
@@ -158,6 +148,21 @@ def parse_unit(text: str) -> tuple[sympy.Rational, Dims]:
     return factor, tuple(sorted((k, v) for k, v in dims.items() if v))
 
 
+def is_unit(word: str) -> bool:
+    """Whether a word reads as a unit.
+
+    Examples
+    --------
+    >>> is_unit("kohm"), is_unit("R1")
+    (True, False)
+    """
+    try:
+        parse_unit(word)
+    except UnitError:
+        return False
+    return True
+
+
 _UNIT_HINT = "write units such as V, mA, uF, kohm, kN/m, N*s/m, kg*m^2, rad/s, lbf/in"
 
 
@@ -177,7 +182,13 @@ def _suggest_unit(word: str) -> str:
 
 @cache
 def dims_of(si_unit: str) -> Dims:
-    """Dimensions of an SI unit written by the tool itself (``"N*s/m"``, ``""``)."""
+    """Dimensions of an SI unit written by the tool itself (``"N*s/m"``, ``""``).
+
+    Examples
+    --------
+    >>> dims_of("N")
+    (('[length]', 1), ('[mass]', 1), ('[time]', -2))
+    """
     if not si_unit:
         return DIMENSIONLESS
     return parse_unit(si_unit)[1]
@@ -217,7 +228,13 @@ def describe(dims: Dims) -> str:
 
 
 def multiply(a: Dims, b: Dims, power: int = 1) -> Dims:
-    """Dimensions of ``a * b**power``."""
+    """Dimensions of ``a * b**power``.
+
+    Examples
+    --------
+    >>> describe(multiply(dims_of("N"), dims_of("m"), -1))
+    'N/m'
+    """
     dims = dict(a)
     for dim, exp in b:
         dims[dim] = dims.get(dim, 0) + exp * power
@@ -225,7 +242,15 @@ def multiply(a: Dims, b: Dims, power: int = 1) -> Dims:
 
 
 def power(a: Dims, exponent: Fraction) -> Dims | None:
-    """Dimensions of ``a**exponent``, or None when a fractional power leaves them fractional."""
+    """Dimensions of ``a**exponent``, or None when a fractional power leaves them fractional.
+
+    Examples
+    --------
+    >>> describe(power(dims_of("m^2"), Fraction(1, 2)))
+    'm'
+    >>> power(dims_of("m"), Fraction(1, 2)) is None
+    True
+    """
     result = []
     for dim, exp in a:
         value = exp * exponent

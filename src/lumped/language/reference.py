@@ -17,5 +17,5 @@ def language_reference() -> str:
     try:
         return resources.files("lumped.grammar").joinpath("language.md").read_text("utf-8")
     except (ModuleNotFoundError, FileNotFoundError, TypeError):
-        here = Path(__file__).resolve().parents[2] / "grammar" / "language.md"
+        here = Path(__file__).resolve().parents[3] / "grammar" / "language.md"
         return here.read_text("utf-8")

@@ -33,9 +33,8 @@ from dataclasses import dataclass
 
 import sympy
 
-from .model import Shape, Waveform, WaveformTerm
-
-s = sympy.Symbol("s")
+from lumped.constants import s
+from lumped.model import Shape, Waveform, WaveformTerm
 
 
 @dataclass(frozen=True)
@@ -199,3 +198,6 @@ def initial_value(waveform: Waveform) -> sympy.Expr | None:
         elif term.shape is Shape.SINE:
             total += term.amplitude * sympy.sin(term.phase)
     return total
+
+
+__all__ = ["Piece", "initial_value", "laplace", "laplace_term", "term_pieces", "waveform_pieces"]
