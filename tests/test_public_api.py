@@ -339,3 +339,26 @@ def test_an_unexpected_exception_exits_3_without_a_traceback(monkeypatch, capsys
     monkeypatch.setenv("LUMPED_DEBUG", "1")
     with pytest.raises(RuntimeError, match="boom"):
         main([str(rc_file)])
+
+
+def test_library_misuse_raises_the_one_root():
+    # Every error the package raises on purpose derives from LumpedError, also for
+    # inputs a notebook user can hand the stages directly.
+    import sympy
+
+    from lumped.errors import LumpedError, TransformError, UnknownWordError
+    from lumped.inversion import invert
+    from lumped.model import Kind, QuantityKind
+
+    s = sympy.Symbol("s")
+    for bad in (sympy.sin(s), sympy.exp(s) / s, sympy.exp(-s**2) / s, "1/s"):
+        with pytest.raises(TransformError) as info:
+            invert(bad, s)
+        assert isinstance(info.value, LumpedError)
+    with pytest.raises(UnknownWordError) as info:
+        Kind.from_word("flux capacitor")
+    assert isinstance(info.value, (LumpedError, KeyError))
+    with pytest.raises(UnknownWordError):
+        QuantityKind.from_word("charge")
+    with pytest.raises(TransformError):
+        invert(1 / (s + 1), s).evaluate([0.0], derivative=-1)

@@ -164,6 +164,47 @@ class ParametersNeeded(LumpedError):  # noqa: N818 (a request, not a failure)
         super().__init__(message)
 
 
+class UnknownWordError(LumpedError, KeyError):
+    """A word that names no element kind, coupling, quantity or figure.
+
+    Also a :class:`KeyError`, as for any lookup by a missing key.
+
+    Examples
+    --------
+    >>> from lumped.model import Kind
+    >>> try:
+    ...     Kind.from_word("flux capacitor")
+    ... except UnknownWordError as error:
+    ...     print(error)
+    'flux capacitor' is not an element kind
+    """
+
+    def __init__(self, word: str, what: str) -> None:
+        self.word = word
+        self.message = f"{word!r} is not {what}"
+        super().__init__(self.message)
+
+    def __str__(self) -> str:
+        return self.message
+
+
+class TransformError(LumpedError, ValueError):
+    """An s-domain expression the inversion cannot take (not a sum of delayed rational
+    terms in s, a zero denominator, or not an expression at all).
+
+    Examples
+    --------
+    >>> import sympy
+    >>> from lumped.inversion import invert
+    >>> s = sympy.Symbol("s")
+    >>> try:
+    ...     invert(sympy.sin(s), s)
+    ... except TransformError as error:
+    ...     print(error)
+    unsupported function of s: sin(s)
+    """
+
+
 class UnitError(LumpedError, ValueError):
     """A unit word the unit registry does not know.
 

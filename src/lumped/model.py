@@ -23,7 +23,7 @@ from types import MappingProxyType
 
 import sympy
 
-from lumped.errors import Location
+from lumped.errors import Location, UnknownWordError
 
 GROUND = "ground"
 FRAME = "frame"
@@ -157,7 +157,7 @@ class Kind(Enum):
         for kind in cls:
             if kind.word == word:
                 return kind
-        raise KeyError(word)
+        raise UnknownWordError(word, "an element kind")
 
 
 class CouplingKind(Enum):
@@ -195,7 +195,7 @@ class CouplingKind(Enum):
         for kind in cls:
             if kind.word == word:
                 return kind
-        raise KeyError(word)
+        raise UnknownWordError(word, "a coupling kind")
 
 
 class Shape(Enum):
@@ -357,7 +357,7 @@ class QuantityKind(Enum):
         for kind in cls:
             if kind.word == word:
                 return kind
-        raise KeyError(word)
+        raise UnknownWordError(word, "a quantity")
 
 
 _DOMAIN_KINDS = MappingProxyType({  # across, through, watched without watch lines
@@ -404,7 +404,7 @@ class Figure(Enum):
         for figure in cls:
             if figure.value == words:
                 return figure
-        raise KeyError(words)
+        raise UnknownWordError(words, "a figure")
 
 
 @dataclass(frozen=True)

@@ -8,6 +8,8 @@ from __future__ import annotations
 
 import sympy
 
+from lumped.errors import TransformError
+
 
 def _merge(target: dict, delay: sympy.Expr, part: sympy.Expr) -> None:
     target[delay] = target.get(delay, sympy.Integer(0)) + part
@@ -36,14 +38,14 @@ def _split_delays(expr: sympy.Expr, s: sympy.Symbol) -> dict:
             for _ in range(int(power)):
                 result = _product(result, factor)
             return result
-        raise ValueError(f"not a finite sum of delayed rational terms: {expr}")
+        raise TransformError(f"not a finite sum of delayed rational terms: {expr}")
     if isinstance(expr, sympy.exp):
         arg = sympy.expand(expr.args[0])
         slope = sympy.diff(arg, s)
         if slope.has(s) or sympy.expand(arg - slope * s) != 0:
-            raise ValueError(f"exponential is not a pure delay exp(-s*T): {expr}")
+            raise TransformError(f"exponential is not a pure delay exp(-s*T): {expr}")
         return {sympy.simplify(-slope): sympy.Integer(1)}
-    raise ValueError(f"unsupported function of s: {expr}")
+    raise TransformError(f"unsupported function of s: {expr}")
 
 
 def _product(left: dict, right: dict) -> dict:

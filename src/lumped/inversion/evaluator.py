@@ -21,6 +21,8 @@ from typing import Any
 import mpmath
 import numpy as np
 
+from lumped.errors import TransformError
+
 
 @dataclass(frozen=True)
 class _NumericGroup:
@@ -68,7 +70,7 @@ class _Evaluator:
 
     def __call__(self, times: np.ndarray, derivative: int = 0) -> np.ndarray:
         if derivative < 0:
-            raise ValueError("derivative must be >= 0")
+            raise TransformError("derivative must be >= 0")
         times = np.asarray(times, dtype=float)
         flat = times.ravel()
         out = np.zeros(flat.shape, dtype=float)

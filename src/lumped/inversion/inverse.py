@@ -18,6 +18,7 @@ from flint import fmpq, fmpq_poly
 
 from lumped.algebra.exact import IRRATIONAL_DIGITS, rationalise
 from lumped.algebra.roots import to_fmpq_poly
+from lumped.errors import TransformError
 from lumped.inversion.closed_form import DEFAULT_T, TimeResponse, _Group
 from lumped.inversion.delays import _split_delays
 from lumped.inversion.evaluator import _NumericGroup
@@ -82,7 +83,7 @@ def _flint_rational(expr: sympy.Expr, s: sympy.Symbol) -> tuple[fmpq_poly, fmpq_
         if power >= 0:
             return part[0] ** power, part[1] ** power
         if part[0].is_zero():
-            raise ZeroDivisionError("transform has a zero denominator")
+            raise TransformError("transform has a zero denominator")
         return part[1] ** -power, part[0] ** -power
     return None
 
@@ -132,7 +133,7 @@ def invert(
     Heaviside(t - 3)
     """
     if not isinstance(transform, sympy.Basic):
-        raise TypeError("transform must be a sympy expression")
+        raise TransformError("transform must be a sympy expression")
     if t is None:
         t = DEFAULT_T
     expr = _exact_number(transform)
@@ -158,15 +159,17 @@ def invert(
     numerics: list[_NumericGroup] | None = []
     for delay in sorted(groups_raw, key=sympy.default_sort_key):
         if delay.is_number and delay.is_negative:
-            raise ValueError(f"negative delay {delay}: the response would precede its cause")
+            raise TransformError(f"negative delay {delay}: the response would precede its cause")
         if delay.is_nonnegative is False:
-            raise ValueError(f"delay {delay} must be nonnegative")
+            raise TransformError(f"delay {delay} must be nonnegative")
         part = groups_raw[delay]
         pair = None if part.free_symbols - {s} else _flint_rational(part, s)
         if pair is None:
             numer, denom = sympy.fraction(sympy.together(part))
             if denom == 0:
-                raise ZeroDivisionError("transform has a zero denominator")
+                raise TransformError("transform has a zero denominator")
+            if not (numer.is_polynomial(s) and denom.is_polynomial(s)):
+                raise TransformError(f"unsupported function of s: {part}")
             group_params = sorted((numer.free_symbols | denom.free_symbols) - {s}, key=str)
             if group_params:
                 groups.append(_symbolic_group(numer, denom, s, group_params, delay))
@@ -177,7 +180,7 @@ def invert(
                 to_fmpq_poly(sympy.Poly(denom, s, domain=sympy.QQ)),
             )
         if pair[1].is_zero():
-            raise ZeroDivisionError("transform has a zero denominator")
+            raise TransformError("transform has a zero denominator")
         group, numeric = _numeric_group(pair[0], pair[1], delay, digits)
         groups.append(group)
         if numerics is not None:
