@@ -1,4 +1,4 @@
-"""Topology checks with networkx, before any algebra, and the validated network they hand on.
+"""Topology checks, before any algebra, and the validated network they hand on.
 
 :func:`validate` raises :class:`~lumped.errors.ValidationError` at the first
 problem that would make the equations meaningless or unsolvable, pointing at
@@ -19,25 +19,181 @@ that only through sources tie to the reference).  What passes is handed on as
 an immutable :class:`Topology`: the netlist and the graph facts the network
 stage uses (node domains, the masses that fall together, the cut-sets of
 through stores).
+
+The checks walk plain graphs (:class:`Multigraph`): networkx takes longer to
+import than the walks take, so it is loaded only for :attr:`Topology.graph`.
 """
 
 from __future__ import annotations
 
 import difflib
-from collections.abc import Mapping, Sequence
+from collections.abc import Hashable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
+from functools import cached_property
 from itertools import pairwise
 from types import MappingProxyType
-
-import networkx as nx
+from typing import TYPE_CHECKING, Any
 
 from lumped import model as m
 from lumped.errors import Location, SolveError, ValidationError
+
+if TYPE_CHECKING:
+    import networkx as nx
 
 DATUM = "<reference>"  # every reference node is this one node in the graphs
 
 # What the command line has always said under a network without a unique solution.
 _UNSOLVABLE_HINT = "the network has no unique solution as written; check the elements named above"
+
+
+class Multigraph:
+    """An undirected graph with parallel edges: just what the checks' walks need.
+
+    Nodes keep the order in which they were first added, and each node's
+    neighbours the order of their first edge, as networkx keeps them, so walks
+    meet nodes (and messages name them) in the same order on every run.
+    ``graph[node]`` maps each neighbour to ``{key: data}``, one entry per edge.
+
+    Examples
+    --------
+    >>> graph = Multigraph()
+    >>> graph.add_edge("a", "b", key="R1")
+    >>> graph.add_edge("b", "a", key="R2")
+    >>> graph.add_node("c")
+    >>> list(graph), sorted(graph["a"]["b"]), [sorted(c) for c in connected_components(graph)]
+    (['a', 'b', 'c'], ['R1', 'R2'], [['a', 'b'], ['c']])
+    """
+
+    def __init__(self) -> None:
+        self._adjacency: dict[Hashable, dict[Hashable, dict[Hashable, dict[str, Any]]]] = {}
+
+    def add_node(self, node: Hashable) -> None:
+        """Add ``node`` (nothing happens if it is there already)."""
+        self._adjacency.setdefault(node, {})
+
+    def add_edge(self, u: Hashable, v: Hashable, key: Hashable = None, **data: Any) -> None:
+        """Add an edge between ``u`` and ``v``, keyed ``key`` (else the first free integer).
+
+        Adding an edge under a key already used between the two updates its data.
+        """
+        self.add_node(u)
+        self.add_node(v)
+        keyed = self._adjacency[u].get(v)
+        if keyed is None:
+            keyed = self._adjacency[u][v] = self._adjacency[v][u] = {}
+        if key is None:
+            key = len(keyed)
+            while key in keyed:
+                key += 1
+        keyed.setdefault(key, {}).update(data)
+
+    def __contains__(self, node: object) -> bool:
+        return node in self._adjacency
+
+    def __iter__(self) -> Iterator[Hashable]:
+        return iter(self._adjacency)
+
+    def __len__(self) -> int:
+        return len(self._adjacency)
+
+    def __getitem__(self, node: Hashable) -> Mapping[Hashable, Mapping[Hashable, dict[str, Any]]]:
+        return MappingProxyType(self._adjacency[node])
+
+    def subgraph(self, nodes: Iterable[Hashable]) -> Multigraph:
+        """The graph on ``nodes`` alone, with the edges among them (their data shared)."""
+        kept = set(nodes)
+        sub = Multigraph()
+        for node, neighbours in self._adjacency.items():
+            if node in kept:
+                sub._adjacency[node] = {v: keyed for v, keyed in neighbours.items() if v in kept}
+        return sub
+
+    def edges(self, data: bool = False) -> list[tuple[Any, ...]]:
+        """Each edge once, as ``(u, v)`` or ``(u, v, data)``, from its first-added end."""
+        seen: set[Hashable] = set()
+        found: list[tuple[Any, ...]] = []
+        for u, neighbours in self._adjacency.items():
+            for v, keyed in neighbours.items():
+                if v not in seen:
+                    found.extend((u, v, d) if data else (u, v) for d in keyed.values())
+            seen.add(u)
+        return found
+
+
+def node_connected_component(graph: Multigraph, node: Hashable) -> set[Hashable]:
+    """The nodes joined to ``node`` (itself included), by breadth-first search.
+
+    Examples
+    --------
+    >>> graph = Multigraph()
+    >>> graph.add_edge(1, 2)
+    >>> graph.add_edge(3, 4)
+    >>> node_connected_component(graph, 2)
+    {1, 2}
+    """
+    seen = {node}
+    level = [node]
+    while level:
+        following = []
+        for u in level:
+            for v in graph[u]:
+                if v not in seen:
+                    seen.add(v)
+                    following.append(v)
+        level = following
+    return seen
+
+
+def connected_components(graph: Multigraph) -> Iterator[set[Hashable]]:
+    """The graph's connected components, in the order of their first-added nodes.
+
+    Examples
+    --------
+    >>> graph = Multigraph()
+    >>> graph.add_edge("b", "c")
+    >>> graph.add_node("a")
+    >>> [sorted(component) for component in connected_components(graph)]
+    [['b', 'c'], ['a']]
+    """
+    seen: set[Hashable] = set()
+    for node in graph:
+        if node not in seen:
+            component = node_connected_component(graph, node)
+            seen.update(component)
+            yield component
+
+
+def tree_path(graph: Multigraph, source: Hashable, target: Hashable) -> list[Hashable] | None:
+    """The nodes on a shortest path from ``source`` to ``target``, or None if there is none.
+
+    The checks ask it of forests, where the path is the only one.
+
+    Examples
+    --------
+    >>> graph = Multigraph()
+    >>> for u, v in [("a", "b"), ("b", "c"), ("b", "d")]:
+    ...     graph.add_edge(u, v)
+    >>> tree_path(graph, "a", "d"), tree_path(graph, "a", "e")
+    (['a', 'b', 'd'], None)
+    """
+    if source not in graph or target not in graph:
+        return None
+    parent: dict[Hashable, Hashable] = {source: source}
+    level = [source]
+    while level and target not in parent:
+        following = []
+        for u in level:
+            for v in graph[u]:
+                if v not in parent:
+                    parent[v] = u
+                    following.append(v)
+        level = following
+    if target not in parent:
+        return None
+    path = [target]
+    while path[-1] != source:
+        path.append(parent[path[-1]])
+    return path[::-1]
 
 
 @dataclass(frozen=True)
@@ -52,7 +208,8 @@ class Topology:
         Each node's domain (the reference nodes aside).
     graph : networkx.MultiGraph
         Frozen; the reference nodes merged into :data:`DATUM`, an edge per
-        element and per coupling port, keyed by its name.
+        element and per coupling port, keyed by its name.  Built (and networkx
+        loaded) on first use.
     falling : Mapping of str to tuple of str
         Each dropped mass, and the masses that fall with it (itself first).
     through_cut_sets : tuple of frozenset of str
@@ -72,9 +229,18 @@ class Topology:
 
     netlist: m.Netlist
     domains: Mapping[str, m.Domain]
-    graph: nx.MultiGraph
     falling: Mapping[str, tuple[str, ...]]
     through_cut_sets: tuple[frozenset[str], ...]
+
+    @cached_property
+    def graph(self) -> nx.MultiGraph:
+        """The network as a frozen networkx multigraph (see the class's attributes)."""
+        import networkx as nx
+
+        graph = nx.MultiGraph()
+        for u, v, key in _element_edges(self.netlist):
+            graph.add_edge(u, v, key=key)
+        return nx.freeze(graph)
 
     def node_domain(self, node: str) -> m.Domain | None:
         """The domain of ``node``: ``ground`` is electrical, ``frame`` translational.
@@ -123,6 +289,15 @@ def _datum(node: str) -> str:
     return DATUM if node in m.REFERENCE_NODES else node
 
 
+def _element_edges(netlist: m.Netlist) -> Iterator[tuple[str, str, str]]:
+    """An edge per element and per coupling port, references merged, keyed by its name."""
+    for element in netlist.elements:
+        yield _datum(element.positive), _datum(element.negative), element.name
+    for coupling in netlist.couplings:
+        for port in (coupling.input, coupling.output):
+            yield _datum(port.positive), _datum(port.negative), coupling.name
+
+
 def validate(netlist: m.Netlist) -> Topology:
     """Check a parsed netlist's topology once; return it as a :class:`Topology`.
 
@@ -156,7 +331,7 @@ def validate(netlist: m.Netlist) -> Topology:
               "add elements such as `resistor R1 from a to ground 1 kohm`")
     _check_names(netlist)
     domains = _check_domains(netlist)
-    graph = nx.MultiGraph()
+    graph = Multigraph()
     for element in netlist.elements:
         if element.positive == element.negative:
             _fail(netlist, f"both terminals of {element.kind.word} '{element.name}' are on node "
@@ -176,8 +351,8 @@ def validate(netlist: m.Netlist) -> Topology:
     _check_targets(netlist, domains)
     falling = _check_drops(netlist)
     check_solvable(netlist)
-    return Topology(netlist, MappingProxyType(domains), nx.freeze(graph),
-                    MappingProxyType(falling), _through_cut_sets(netlist))
+    return Topology(netlist, MappingProxyType(domains), MappingProxyType(falling),
+                    _through_cut_sets(netlist))
 
 
 def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
@@ -196,7 +371,7 @@ def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
     >>> falling_masses(net, "box")
     ('box', 'gauge')
     """
-    graph = nx.Graph()
+    graph = Multigraph()
     for element in netlist.elements:
         if element.domain is not m.Domain.TRANSLATIONAL:
             continue
@@ -207,11 +382,12 @@ def falling_masses(netlist: m.Netlist, dropped: str) -> tuple[str, ...]:
         ends = [n for port in (coupling.input, coupling.output)
                 for n in (port.positive, port.negative) if n != m.FRAME]
         if coupling.kind.input_domain is coupling.kind.output_domain is m.Domain.TRANSLATIONAL:
-            graph.add_edges_from(pairwise(ends))
+            for u, v in pairwise(ends):
+                graph.add_edge(u, v)
     body = netlist.element(dropped)
     if body is None or body.positive not in graph:
         return (dropped,)
-    moving = nx.node_connected_component(graph, body.positive)
+    moving = node_connected_component(graph, body.positive)
     others = [e.name for e in netlist.elements
               if e.kind is m.Kind.MASS and e.positive in moving and e.name != dropped]
     return (dropped, *others)
@@ -294,13 +470,13 @@ def _check_domains(netlist: m.Netlist) -> dict[str, m.Domain]:
     return domains
 
 
-def _check_reference(netlist: m.Netlist, graph: nx.MultiGraph) -> None:
+def _check_reference(netlist: m.Netlist, graph: Multigraph) -> None:
     if DATUM not in graph:
         first = netlist.elements[0]
         reference = first.domain.reference
         _fail(netlist, "nothing is connected to a reference node", first.location,
               f"connect the network to '{reference}' (electrical: ground; mechanical: frame)")
-    for component in nx.connected_components(graph):
+    for component in connected_components(graph):
         if DATUM in component:
             continue
         names = sorted(component)
@@ -313,13 +489,13 @@ def _check_reference(netlist: m.Netlist, graph: nx.MultiGraph) -> None:
 
 
 def _check_across_loops(netlist: m.Netlist) -> None:
-    graph = nx.MultiGraph()
+    graph = Multigraph()  # a forest: an edge that would close a loop is refused
     for element in netlist.elements:
         if element.kind.role is m.Role.ACROSS_SOURCE:
             a, b = _datum(element.positive), _datum(element.negative)
-            if graph.has_node(a) and graph.has_node(b) and nx.has_path(graph, a, b):
-                path = nx.shortest_path(graph, a, b)
-                loop = [graph.get_edge_data(u, v) for u, v in pairwise(path)]
+            path = tree_path(graph, a, b)
+            if path is not None:
+                loop = [graph[u][v] for u, v in pairwise(path)]
                 others = [next(iter(data)) for data in loop]
                 _fail(netlist, f"{element.kind.word} '{element.name}' closes a loop of ideal "
                       f"across sources with " + ", ".join(f"'{o}'" for o in others),
@@ -330,34 +506,40 @@ def _check_across_loops(netlist: m.Netlist) -> None:
 
 
 def joined_graph(netlist: m.Netlist, *, without: tuple[m.Role, ...],
-                 couplings_join_ports: bool) -> nx.Graph:
+                 couplings_join_ports: bool) -> Multigraph:
     """Nodes joined by every element whose role is not in ``without``; references merged.
 
     Each coupling joins the two ends of each of its ports, and with
-    ``couplings_join_ports`` its two ports to each other as well.
+    ``couplings_join_ports`` its two ports to each other as well.  Two nodes
+    are joined by one edge at most.
 
     Examples
     --------
     >>> from lumped.language.parse import parse_text
     >>> net = parse_text("current source I at a step 1 A\\nresistor R from a to ground 1 ohm\\n")
     >>> sorted(joined_graph(net, without=(m.Role.THROUGH_SOURCE,),
-    ...                     couplings_join_ports=True).edges)
+    ...                     couplings_join_ports=True).edges())
     [('<reference>', 'a')]
     """
-    graph = nx.Graph()
+    graph = Multigraph()
     graph.add_node(DATUM)
+
+    def join(u: str, v: str) -> None:
+        if u not in graph or v not in graph[u]:
+            graph.add_edge(u, v)
+
     for element in netlist.elements:
         a, b = _datum(element.positive), _datum(element.negative)
         graph.add_node(a)
         graph.add_node(b)
         if element.kind.role not in without:
-            graph.add_edge(a, b)
+            join(a, b)
     for coupling in netlist.couplings:
         ports = (coupling.input, coupling.output)
         ends = [_datum(n) for p in ports for n in (p.positive, p.negative)]
         links = pairwise(ends) if couplings_join_ports else (ends[:2], ends[2:])
         for u, v in links:
-            graph.add_edge(u, v)
+            join(u, v)
     return graph
 
 
@@ -365,7 +547,7 @@ def _check_through_cutsets(netlist: m.Netlist) -> None:
     # Every node must reach the reference without passing through a through source;
     # otherwise the sources alone fix the flow across that cut.
     graph = joined_graph(netlist, without=(m.Role.THROUGH_SOURCE,), couplings_join_ports=True)
-    reachable = nx.node_connected_component(graph, DATUM)
+    reachable = node_connected_component(graph, DATUM)
     for element in netlist.elements:
         if element.kind.role is not m.Role.THROUGH_SOURCE:
             continue
@@ -381,7 +563,7 @@ def _through_cut_sets(netlist: m.Netlist) -> tuple[frozenset[str], ...]:
     # Super-nodes: nodes joined by everything but through stores and through sources.
     joined = joined_graph(netlist, without=(m.Role.THROUGH_STORE, m.Role.THROUGH_SOURCE),
                           couplings_join_ports=False)
-    return tuple(frozenset(component) for component in nx.connected_components(joined)
+    return tuple(frozenset(component) for component in connected_components(joined)
                  if DATUM not in component)
 
 
@@ -400,7 +582,7 @@ def check_solvable(netlist: m.Netlist) -> None:
     >>> check_solvable(parse_text("current source I at a step 1 A\\n"
     ...                           "resistor R from a to ground 1 ohm\\n"))
     """
-    across = nx.MultiGraph()
+    across = Multigraph()  # a forest: an edge that would close a loop is refused
     for element in netlist.elements:
         if element.kind.role is m.Role.ACROSS_SOURCE:
             a, b = _datum(element.positive), _datum(element.negative)
@@ -410,10 +592,10 @@ def check_solvable(netlist: m.Netlist) -> None:
                     f"{element.kind.word} {element.name} is shorted: both ends are the same node",
                     [element.name],
                 )
-            if across.has_node(a) and across.has_node(b) and nx.has_path(across, a, b):
-                path = nx.shortest_path(across, a, b)
+            path = tree_path(across, a, b)
+            if path is not None:
                 names = sorted([element.name] + [
-                    next(iter(across.get_edge_data(u, v).values()))["name"]
+                    next(iter(across[u][v].values()))["name"]
                     for u, v in pairwise(path)
                 ])
                 raise solve_error(
@@ -423,7 +605,7 @@ def check_solvable(netlist: m.Netlist) -> None:
                     names,
                 )
             across.add_edge(a, b, name=element.name)
-    held = nx.MultiGraph()
+    held = Multigraph()
     held.add_node(DATUM)
     through_sources: dict[str, list[str]] = {}
     for element in netlist.elements:
@@ -438,7 +620,7 @@ def check_solvable(netlist: m.Netlist) -> None:
     for coupling in netlist.couplings:
         for port in (coupling.input, coupling.output):
             held.add_edge(_datum(port.positive), _datum(port.negative))
-    for component in nx.connected_components(held):
+    for component in connected_components(held):
         if DATUM in component:
             continue
         nodes = sorted(component)

@@ -12,9 +12,6 @@ import tempfile
 from pathlib import Path
 
 from lumped.errors import NetlistError
-from lumped.io.latex import to_latex
-from lumped.io.plotting import plot as draw
-from lumped.io.records import to_csv, to_json
 
 # The plot's file formats, by file name ending.
 PLOT_SUFFIXES = (".png", ".svg")
@@ -174,6 +171,11 @@ def write(analysis, *, json: str | Path | None = None, csv: str | Path | None = 
                  (("json", json), ("csv", csv), ("latex", latex), ("plot", plot))
                  if path is not None}
     check_outputs(analysis.netlist.source, list(requested.values()))
+    # The writers load numpy (and matplotlib for a plot): only when a file asks for them.
+    from lumped.io.latex import to_latex
+    from lumped.io.plotting import plot as draw
+    from lumped.io.records import to_csv, to_json
+
     builders = {"json": lambda path: to_json(analysis),
                 "csv": lambda path: to_csv(analysis, samples),
                 "latex": lambda path: to_latex(analysis),

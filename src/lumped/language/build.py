@@ -1,6 +1,6 @@
 """Typed statements -> the immutable model (:class:`lumped.model.Netlist`).
 
-Parameters are evaluated in dependency order (networkx), then every other
+Parameters are evaluated in dependency order, then every other
 statement in the order written; each value passes the
 :class:`~lumped.language.values.ValueReader`, which reduces it to an exact SI
 magnitude and checks it against what its place needs.
@@ -12,7 +12,6 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from types import MappingProxyType
 
-import networkx as nx
 import sympy
 
 from lumped import model as m
@@ -41,6 +40,48 @@ from lumped.language.syntax import (
 )
 from lumped.language.units import DIMENSIONLESS, SIValue, describe, parse_unit
 from lumped.language.values import ValueReader, format_value
+
+
+def _dependency_order(users: Mapping[str, Mapping[str, None]]) -> list[str] | None:
+    """Names in an order where each comes after those it uses; None if some use each other.
+
+    Generation by generation, as networkx's ``topological_sort`` orders them
+    (the order decides which of two faulty parameters is reported first).
+
+    Examples
+    --------
+    >>> _dependency_order({"C": {}, "tau": {}, "R": {"tau": None}})
+    ['C', 'R', 'tau']
+    >>> _dependency_order({"a": {"b": None}, "b": {"a": None}}) is None
+    True
+    """
+    waiting = {name: 0 for name in users}
+    for followers in users.values():
+        for follower in followers:
+            waiting[follower] += 1
+    order: list[str] = []
+    ready = [name for name, count in waiting.items() if count == 0]
+    while ready:
+        order.extend(ready)
+        following = []
+        for name in ready:
+            for follower in users[name]:
+                waiting[follower] -= 1
+                if waiting[follower] == 0:
+                    following.append(follower)
+        ready = following
+    return order if len(order) == len(users) else None
+
+
+def _cycle(users: Mapping[str, Mapping[str, None]]) -> list[str]:
+    """The parameters of one circle of definitions, as networkx's ``find_cycle`` names it."""
+    import networkx as nx  # only for this message: keeps the wording of earlier versions
+
+    graph = nx.DiGraph()
+    graph.add_nodes_from(users)
+    graph.add_edges_from((name, follower) for name, followers in users.items()
+                         for follower in followers)
+    return [edge[0] for edge in nx.find_cycle(graph)]
 
 
 @dataclass(frozen=True)
@@ -157,7 +198,7 @@ class _NetlistBuilder:
 
     # parameters ---------------------------------------------------------------
     def _parameters(self, statements: list[LetValue | LetFree]) -> list[m.Parameter]:
-        graph = nx.DiGraph()
+        users: dict[str, dict[str, None]] = {}  # each parameter's users, in first-use order
         by_name: dict[str, LetValue | LetFree] = {}
         for statement in statements:
             name = statement.name
@@ -174,7 +215,7 @@ class _NetlistBuilder:
                     hint="the results use it for " + RESERVED_NAMES[name] + "; choose another name",
                 )
             by_name[name] = statement
-            graph.add_node(name)
+            users[name] = {}
         declared: dict[str, LetValue | LetFree] = {}
         for name, override in self.overrides.items():
             if name not in by_name:
@@ -192,11 +233,10 @@ class _NetlistBuilder:
             if isinstance(statement, LetValue):
                 for used in names_used(statement.value):
                     if used in by_name:
-                        graph.add_edge(used, name)
-        try:
-            order = list(nx.topological_sort(graph))
-        except nx.NetworkXUnfeasible:
-            cycle = [edge[0] for edge in nx.find_cycle(graph)]
+                        users[used][name] = None
+        order = _dependency_order(users)
+        if order is None:
+            cycle = _cycle(users)
             first = by_name[cycle[0]]
             raise NetlistError(
                 "parameters defined in a circle: " + " -> ".join([*cycle, cycle[0]]),

@@ -5,6 +5,12 @@ unit word at a time (``kN``, ``s``, ``m``) and combines them by the ``*``, ``/``
 and ``^`` the grammar has already split out, so no netlist text is ever handed
 to an expression evaluator.  Factors become exact rationals from pint's
 decimal definitions.
+
+Building pint's registry takes longer than reading a whole netlist, so the
+words the language documents (SI prefixes on the electrical and mechanical
+units, the usual imperial ones) are looked up in :mod:`~lumped.language.unit_table`,
+a table generated from pint by ``scripts/make_unit_table.py`` and checked
+against pint by the tests; pint is asked only about other words.
 """
 
 from __future__ import annotations
@@ -17,6 +23,7 @@ from functools import cache
 import sympy
 
 from lumped.errors import UnitError
+from lumped.language.unit_table import UNIT_TABLE
 
 Dims = tuple[tuple[str, int], ...]
 DIMENSIONLESS: Dims = ()
@@ -90,6 +97,25 @@ def _definition_factor(name: str) -> sympy.Expr:
 
 @cache
 def _atom(word: str) -> tuple[sympy.Expr, Dims]:
+    """Exact SI factor and dimensions of one unit word (``kN``, ``uF``, ``lbf``).
+
+    Raises KeyError for a word that is not a unit, or one without a factor (``degC``).
+    """
+    entry = UNIT_TABLE.get(word)
+    if entry is not None:
+        numerator, denominator, pi_power, dims = entry
+        return sympy.Rational(numerator, denominator) * sympy.pi**pi_power, dims
+    return atom_from_registry(word)
+
+
+def atom_from_registry(word: str) -> tuple[sympy.Expr, Dims]:
+    """:func:`_atom` asked of pint's registry itself (what the unit table is made from).
+
+    Examples
+    --------
+    >>> atom_from_registry("kohm")
+    (1000, (('[current]', -2), ('[length]', 2), ('[mass]', 1), ('[time]', -3)))
+    """
     ureg = registry()
     # Symbols the language accepts that pint spells out.
     word = {"%": "percent", "°": "degree"}.get(word, word)

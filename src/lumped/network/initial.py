@@ -24,14 +24,13 @@ from __future__ import annotations
 from collections.abc import Mapping
 from types import MappingProxyType
 
-import networkx as nx
 import sympy
 
 from lumped.model import REFERENCE_NODES, Element, Kind, Role
 from lumped.network import sources as waveforms
 from lumped.network.solution import Form, Solution, across, network_function
 from lumped.network.stamps import Plan
-from lumped.topology import DATUM, solve_error
+from lumped.topology import DATUM, Multigraph, connected_components, solve_error
 
 
 def _graph_node(name: str) -> str:
@@ -154,12 +153,12 @@ def initial_notes(plan: Plan, extra: Mapping[str, sympy.Expr]) -> tuple[str, ...
         for e in netlist.elements
         if e.kind.role in (Role.ACROSS_STORE, Role.ACROSS_SOURCE) and initial(e) is not None
     ]
-    graph = nx.MultiGraph()
+    graph = Multigraph()
     for e in edges:
         graph.add_edge(
             _graph_node(e.positive), _graph_node(e.negative), name=e.name, value=initial(e)
         )
-    for component in nx.connected_components(graph):
+    for component in connected_components(graph):
         root = DATUM if DATUM in component else sorted(component)[0]
         potential = {root: sympy.Integer(0)}
         parent: dict[str, tuple[str, str]] = {}
