@@ -71,7 +71,7 @@ class Multigraph:
         """Add ``node`` (nothing happens if it is there already)."""
         self._adjacency.setdefault(node, {})
 
-    def add_edge(self, u: Hashable, v: Hashable, key: Hashable = None, **data: Any) -> None:
+    def add_edge(self, u: Hashable, v: Hashable, key: Hashable | None = None, **data: Any) -> None:
         """Add an edge between ``u`` and ``v``, keyed ``key`` (else the first free integer).
 
         Adding an edge under a key already used between the two updates its data.

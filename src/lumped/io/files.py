@@ -171,6 +171,8 @@ def write(analysis, *, json: str | Path | None = None, csv: str | Path | None = 
                  (("json", json), ("csv", csv), ("latex", latex), ("plot", plot))
                  if path is not None}
     check_outputs(analysis.netlist.source, list(requested.values()))
+    if not requested:
+        return ()
     # The writers load numpy (and matplotlib for a plot): only when a file asks for them.
     from lumped.io.latex import to_latex
     from lumped.io.plotting import plot as draw
