@@ -17,7 +17,8 @@ top-level package.
 
 The children may write and reuse byte code (``PYTHONDONTWRITEBYTECODE`` is
 dropped from their environment), as an installed package has it; the warm-up
-round writes it.  ``--no-byte-code-cache`` keeps the variable as it is.
+round writes it.  ``--no-byte-code-cache`` keeps the variable as it is (byte code
+already on disk is still read: remove ``__pycache__`` folders to time compiling).
 ``--src FOLDER`` puts another checkout's ``src`` first on the children's
 ``PYTHONPATH``: the same commands on another version of the package.
 """
@@ -128,7 +129,8 @@ def main(argv: list[str] | None = None) -> int:
                         help="also list the costliest imports of each command")
     parser.add_argument("--src", type=Path, help="a checkout's src folder to time instead")
     parser.add_argument("--no-byte-code-cache", action="store_true",
-                        help="keep PYTHONDONTWRITEBYTECODE as it is in the environment")
+                        help="keep PYTHONDONTWRITEBYTECODE as it is in the environment "
+                        "(byte code already written is still read)")
     args = parser.parse_args(argv)
     ENVIRONMENT.clear()
     ENVIRONMENT.update(child_environment(args.src, not args.no_byte_code_cache))
