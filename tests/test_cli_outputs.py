@@ -383,3 +383,25 @@ def test_a_heavily_damped_drop_that_never_pulls_has_no_tensile_caution(tmp_path)
     report = words(run(source).stdout)
     assert "turns tensile" not in report
     assert all(phrase in report for phrase in GENERAL)
+
+
+def test_a_reader_that_leaves_early_is_no_error(tmp_path):
+    # `lumped --check FILE | head -1` and the like: the pipe closes before the output ends
+    # (here before it starts, so the write surely fails); the status is the run's own,
+    # never an internal error (common practice).
+    import subprocess
+    import sys
+
+    for extra in (["--check"], ["--transfer", "Vin"], []):
+        script = ("import subprocess, sys\n"
+                  f"p = subprocess.Popen([sys.executable, '-m', 'lumped.cli', *{extra!r}, "
+                  "'examples/rc_inrush_limiter.lumped'], stdout=subprocess.PIPE, "
+                  "stderr=subprocess.PIPE)\n"
+                  "p.stdout.close()\n"
+                  "err = p.stderr.read().decode(); code = p.wait()\n"
+                  "print(code); print(err)\n")
+        done = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                              timeout=120)
+        code, _, err = done.stdout.partition("\n")
+        assert "internal error" not in err and "Traceback" not in err, err
+        assert code.strip() in ("0", "1"), done.stdout + done.stderr

@@ -164,9 +164,10 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
         from lumped.network import assemble
 
         solution = assemble(topology)  # a network without a unique solution fails here too
-        print(network_summary(netlist))
-        for note in solution.notes:
-            print(textwrap.fill(note, 80, initial_indent="  note: ", subsequent_indent=" " * 8))
+        lines = [network_summary(netlist)]
+        lines += [textwrap.fill(note, 80, initial_indent="  note: ", subsequent_indent=" " * 8)
+                  for note in solution.notes]
+        _print_report("\n".join(lines), ())
         return EXIT_PASS
     for name in args.transfer:
         element = netlist.element(name)
@@ -182,13 +183,12 @@ def _solve(args: argparse.Namespace, source: Path) -> int:
             io.refuse_unsampled(analysis, f"--{option} {getattr(args, option)}")
     written = io.write(analysis, json=args.json, csv=args.csv, latex=args.latex,
                        plot=args.plot, samples=args.samples)
-    _print_report(io.render(analysis, color=_colour(args.color), quiet=args.quiet), written)
-    if args.transfer:
-        for name in args.transfer:
-            for result in analysis.results:
-                print()
-                print(io.transfer_text(analysis.solution.transfer_function(name,
-                                                                           result.quantity)))
+    report = io.render(analysis, color=_colour(args.color), quiet=args.quiet)
+    for name in args.transfer:
+        for result in analysis.results:
+            function = analysis.solution.transfer_function(name, result.quantity)
+            report += "\n\n" + io.transfer_text(function)
+    _print_report(report, written)
     return EXIT_PASS if analysis.passed else EXIT_FAIL
 
 
@@ -199,6 +199,7 @@ def _colour(choice: str) -> bool:
 
 
 def _print_report(report: str, written: tuple[Path, ...]) -> None:
+    """Print what the run says; a reader that leaves early (``| head``) is no error."""
     try:
         print(report)
         for path in written:
