@@ -80,14 +80,15 @@ class _Sampler:
         self.t_report = self.t if report is t_all else report[pick]
         self.x = x_all[pick]
         self.dx = dx_all[pick]
+        # first and last sample of every segment: window ends and one-sided limits at jumps
         if inner:
             segment = np.searchsorted(np.array(breaks), self.t, side="right") - 1
             self.seg = np.minimum(segment, len(breaks) - 2)
+            edges = np.nonzero(np.diff(self.seg) != 0)[0]
+            self._ends = np.unique(np.concatenate(([0, self.t.size - 1], edges, edges + 1)))
         else:
             self.seg = np.zeros(self.t.size, dtype=np.intp)
-        # first and last sample of every segment: window ends and one-sided limits at jumps
-        edges = np.nonzero(np.diff(self.seg) != 0)[0]
-        self._ends = np.unique(np.concatenate(([0, self.t.size - 1], edges, edges + 1)))
+            self._ends = np.unique(np.array([0, self.t.size - 1]))
         self._cache: dict[int, tuple[float, float]] = {}
 
     def _segment_parts(
