@@ -356,7 +356,8 @@ def _solve_brackets(
     high, f_high = np.where(fa < 0, b, a), np.maximum(fa, fb)  # f > 0 there
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         t = a - fa * (b - a) / (fb - fa)
-    t = np.where((t > np.minimum(a, b)) & (t < np.maximum(a, b)), t, 0.5 * (a + b))
+    # (a root within rounding of an end puts the first iterate on that end)
+    t = np.where(np.isfinite(t), np.clip(t, np.minimum(a, b), np.maximum(a, b)), 0.5 * (a + b))
     step = step_before = np.abs(b - a)
     for _ in range(200):
         tolerance = np.maximum(np.maximum(np.abs(low), np.abs(high)) * 4e-16, 1e-300)
@@ -377,8 +378,12 @@ def _solve_brackets(
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             newton = t - f / slope
             slow = np.abs(2.0 * f) > np.abs(step_before * slope)
-        # (an end itself counts as inside: a converged step may land on it)
-        inside = (newton >= np.minimum(low, high)) & (newton <= np.maximum(low, high))
+        # A root within rounding of an end can send the step a few ulps past it:
+        # that step still counts as inside, held at the end.
+        first, last = np.minimum(low, high), np.maximum(low, high)
+        slack = np.maximum(last, -first) * 8e-16
+        inside = (newton >= first - slack) & (newton <= last + slack)
+        newton = np.minimum(np.maximum(newton, first), last)
         new = np.where(inside & ~slow, newton, 0.5 * (low + high))
         step_before, step = step, np.abs(new - t)
         zero = f == 0
