@@ -340,7 +340,7 @@ def _solve_brackets(
     vague = (fa == 0) | (fb == 0) | ((fa > 0) == (fb > 0))
     if vague.any():
         # The grid's values at an end round to zero or to the other sign: ask the
-        # closed form itself at both ends of those brackets (one call each way).
+        # closed form itself at both ends of those brackets, all in one pass.
         fa, fb = fa.copy(), fb.copy()
         ends = np.concatenate((a[vague], b[vague]))
         both = _with_slope(values, ends, np.tile(order[vague], 2), np.tile(level[vague], 2),
