@@ -7,6 +7,7 @@ integrated and counted, so a long window costs no more than a short one.
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -14,6 +15,14 @@ import numpy as np
 from lumped.figures.modes import _LIVE_DECAYS, ResponseLike, _active, _periodic_tail, _real
 
 _MAX_INTERVALS = 50_000
+
+
+@functools.cache
+def _gauss_legendre() -> tuple[np.ndarray, np.ndarray]:
+    """The 16-point Gauss-Legendre nodes and weights on [-1, 1], computed once."""
+    nodes, weights = np.polynomial.legendre.leggauss(16)
+    nodes.flags.writeable = weights.flags.writeable = False  # shared by every call
+    return nodes, weights
 
 
 def energy_dissipated(
@@ -100,7 +109,7 @@ def _square_integral(
         if pole.real < 0:
             points.update(d + np.geomspace(0.05, _LIVE_DECAYS, 12) / -pole.real)
     edges = np.array([start, *sorted(p for p in points if start < p < stop), stop])
-    nodes, weights = np.polynomial.legendre.leggauss(16)
+    nodes, weights = _gauss_legendre()
 
     def rule(a: np.ndarray, b: np.ndarray) -> np.ndarray:
         half = (b - a) / 2

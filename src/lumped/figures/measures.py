@@ -41,11 +41,13 @@ Time-domain figures are measured over the window ``[start, stop]``; the
 initial value, final value and mode figures do not depend on the window.
 Extremes and crossings are located on a grid adapted to the response's
 time scales (uniform, geometric after every switching instant, and dense
-enough for the fastest ringing) and then refined on the closed form:
-stationary points by bisection on the derivative over all brackets at once,
-crossings by false position.  Once the transient has died out, a response
-made of sinusoids with a common period repeats, so extremes are searched
-over the transient and one period, however long the window.
+enough for the fastest ringing) and then refined on the closed form by
+safeguarded Newton steps over all brackets at once: first every stationary
+point (extremes, and excursions near the settling band), then every level
+crossing (10 % and 90 % of the change, the band's edge).  Once the
+transient has died out, a response made of sinusoids with a common period
+repeats, so extremes are searched over the transient and one period,
+however long the window.
 """
 
 from __future__ import annotations
@@ -170,11 +172,16 @@ def compute_figures(
     if final is None:
         reasons["final"] = why
     change = None if final is None else final - initial
+    no_change = change is None or change == 0.0 or abs(change) <= 1e-12 * max(
+        abs(initial), abs(final or 0.0))
+    # the settling band, when there is a change to measure it against
+    settle = None if no_change else (final, band * abs(change))
 
     # Extremes of the smooth part; impulses inside the window make them unbounded.
+    # The stationary points the settling time needs are refined in the same pass.
     finite = sampler.x[np.isfinite(sampler.x)]
     tolerance = EXTREME_TOLERANCE * (float(np.max(np.abs(finite))) if finite.size else 0.0)
-    peak, minimum = sampler.extremum(1.0, tolerance), sampler.extremum(-1.0, tolerance)
+    peak, minimum = sampler.extremes(tolerance, settle)
     inside = [imp for imp in impulses if start <= _real(imp.delay) <= stop]
     peak_unbounded = any(imp.order > 0 or _real(imp.weight) > 0 for imp in inside)
     minimum_unbounded = any(imp.order > 0 or _real(imp.weight) < 0 for imp in inside)
@@ -213,7 +220,7 @@ def compute_figures(
     if change is None:
         for name in (*step_figures, "settling_time"):
             reasons[name] = not_step
-    elif change == 0.0 or abs(change) <= 1e-12 * max(abs(initial), abs(final or 0.0)):
+    elif no_change:
         for name in step_figures:
             reasons[name] = not_step
         reasons["settling_time"] = (
@@ -222,6 +229,9 @@ def compute_figures(
     else:
         assert final is not None
         direction = 1.0 if change > 0 else -1.0
+        # the 10 % and 90 % crossings and the settling time, refined together
+        levels = [initial + 0.1 * change, initial + 0.9 * change] if shape == "step" else []
+        reached, settled = sampler.crossings([(level, direction) for level in levels], settle)
         if shape != "step":
             for name in step_figures:
                 reasons[name] = not_step
@@ -239,8 +249,7 @@ def compute_figures(
             else:
                 undershoot = max(0.0, (behind - initial) / -change)
 
-            t10, at_start10 = sampler.first_reach(initial + 0.1 * change, direction)
-            t90, _ = sampler.first_reach(initial + 0.9 * change, direction)
+            (t10, at_start10), (t90, _) = reached
             if t10 is None or t90 is None:
                 reasons["rise_time"] = (
                     f"does not reach {'10' if t10 is None else '90'} % of the final change "
@@ -251,7 +260,8 @@ def compute_figures(
             else:
                 rise_time, rise_crossings = t90 - t10, (t10, t90)
 
-        settling_time, how = sampler.settling(final, band * abs(change))
+        assert settled is not None
+        settling_time, how = settled
         if settling_time is None:
             reasons["settling_time"] = how
         elif how == "inside" and start > 0.0:
