@@ -46,6 +46,7 @@ _PUBLIC_NAMES = {
     "Dissipation": "lumped.analysis",
     "DropResult": "lumped.analysis",
     "LumpedError": "lumped.errors",
+    "clear_caches": "lumped.cachedir",
 }
 _STAGES = ("language", "model", "topology", "network", "algebra", "inversion", "figures",
            "analysis", "io", "errors")

@@ -4,7 +4,8 @@ Poles and zeros (exact for factors of degree <= 2 over the rationals, certified
 floating point otherwise, from :mod:`lumped.algebra.roots`), the DC gain, the
 second-order factors as natural frequency, damping ratio and quality factor,
 and stability: decided exactly from the roots with numeric coefficients, by
-Routh-Hurwitz with the parameters' assumptions otherwise.
+Routh-Hurwitz with the parameters' assumptions otherwise (the Hurwitz
+determinants from a fraction-free Routh array, not from symbolic matrices).
 
 Examples
 --------
@@ -19,9 +20,13 @@ Examples
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from dataclasses import dataclass
 
 import sympy
+from sympy.polys.constructor import construct_domain
+from sympy.polys.domains.domain import Domain
+from sympy.polys.matrices import DomainMatrix
 
 from lumped.algebra.roots import (
     irreducible_factors,
@@ -191,28 +196,160 @@ def _quadratic(a: sympy.Expr, b: sympy.Expr, c: sympy.Expr) -> SecondOrderFactor
     )
 
 
+def hurwitz_determinants(coefficients: Sequence[sympy.Expr]) -> tuple[sympy.Expr, ...]:
+    """The Hurwitz determinants of ``a0 s^n + a1 s^(n-1) + ... + an``, by Routh's recurrence.
+
+    ``coefficients`` run from the highest power down.  The k-th determinant is
+    the leading k-by-k minor of the Hurwitz matrix (entry ``(i, j)`` is
+    ``a_(2j-i+1)``, counting from 1); with ``a0 > 0`` every root lies in the
+    open left half-plane exactly when all of them are positive.  They come from
+    a fraction-free Routh array, a few products and exact divisions per entry,
+    rather than from determinants of growing symbolic matrices.
+
+    Parameters
+    ----------
+    coefficients : sequence of sympy.Expr
+        Numbers or polynomials (or ratios of them) in parameters.
+
+    Returns
+    -------
+    tuple of sympy.Expr
+        ``n`` determinants, expanded.
+
+    Examples
+    --------
+    >>> a0, a1, a2, a3 = sympy.symbols("a0:4", positive=True)
+    >>> hurwitz_determinants([a0, a1, a2, a3])
+    (a1, -a0*a3 + a1*a2, -a0*a3**2 + a1*a2*a3)
+    """
+    domain, elements = construct_domain(list(coefficients))
+    return tuple(domain.to_sympy(d) for d in _hurwitz_elements(elements, domain))
+
+
+def _hurwitz_elements(coefficients: list, domain: Domain) -> list:
+    """The Hurwitz determinants as elements of ``domain`` (highest power first)."""
+    pivots = _routh_pivots(coefficients, domain)
+    if pivots is not None:
+        return pivots
+    # A determinant vanished identically, so the recurrence cannot divide by it:
+    # fraction-free elimination of each leading minor (rare, and small then).
+    degree = len(coefficients) - 1
+
+    def entry(i: int, j: int) -> object:
+        index = 2 * j - i + 1
+        return coefficients[index] if 0 <= index <= degree else domain.zero
+
+    return [
+        DomainMatrix([[entry(i, j) for j in range(k)] for i in range(k)], (k, k), domain).det()
+        for k in range(1, degree + 1)
+    ]
+
+
+def _routh_pivots(coefficients: list, domain: Domain) -> list | None:
+    """First entries of the fraction-free Routh rows: the Hurwitz determinants, or None.
+
+    Rows ``F0 = (a0, a2, ...)``, ``F1 = (a1, a3, ...)`` and
+    ``F(k+1)[j] = (Fk[0] F(k-1)[j+1] - F(k-1)[0] Fk[j+1]) / F(k-2)[0]``, the
+    divisor being 1 for ``k < 3``.  Row ``k`` is the classical Routh row times
+    the determinant ``k - 1``, so its first entry is determinant ``k``; the
+    division is exact because every entry is a minor of the Hurwitz matrix.
+    None when a divisor is zero (a determinant that vanishes identically).
+    """
+    degree = len(coefficients) - 1
+    width = degree // 2 + 2  # one spare zero, so that entry j + 1 always exists
+
+    def padded(values: list) -> list:
+        return values + [domain.zero] * (width - len(values))
+
+    rows = [padded(coefficients[0::2]), padded(coefficients[1::2])]
+    for k in range(1, degree):
+        earlier, current = rows[k - 1], rows[k]
+        divisor = rows[k - 2][0] if k >= 3 else domain.one
+        if not divisor:
+            return None
+        following = [
+            domain.exquo(current[0] * earlier[j + 1] - earlier[0] * current[j + 1], divisor)
+            for j in range(width - 1)
+        ]
+        rows.append(padded(following))
+    return [row[0] for row in rows[1:]]
+
+
+def _quick_sign(value: object, domain: Domain) -> int | None:
+    """+1 or -1 when every term of a polynomial in positive parameters has that sign."""
+    if not value:
+        return None
+    if domain.is_PolynomialRing:
+        parts = [value]
+    elif domain.is_FractionField:
+        parts = [value.numer, value.denom]
+    else:
+        return None
+    if not all(getattr(g, "is_positive", False) for g in domain.symbols):
+        return None
+    sign = 1
+    for part in parts:
+        terms = part.coeffs()
+        if all(c > 0 for c in terms):
+            continue
+        if all(c < 0 for c in terms):
+            sign = -sign
+            continue
+        return None
+    return sign
+
+
+def _general_sign(value: sympy.Expr) -> int | None:
+    """+1, -1 or None from sympy's assumptions on the factored value (for what is left)."""
+    factored = sympy.factor(value)
+    if factored.is_positive:
+        return 1
+    if factored.is_negative:
+        return -1
+    return None
+
+
+def _sign(value: object, domain: Domain) -> int | None:
+    """+1, -1 or None for a domain element: term signs first, sympy's assumptions after."""
+    quick = _quick_sign(value, domain)
+    return quick if quick is not None else _general_sign(domain.to_sympy(value))
+
+
 def _symbolic_stability(den: sympy.Poly, zero_order: int) -> tuple[str, tuple[sympy.Expr, ...]]:
-    """Routh-Hurwitz on ``den / s**zero_order`` with the parameters' assumptions."""
-    coeffs = den.all_coeffs()[: len(den.all_coeffs()) - zero_order]
-    if coeffs[0].could_extract_minus_sign():
-        coeffs = [-c for c in coeffs]
-    degree = len(coeffs) - 1
+    """Routh-Hurwitz on ``den / s**zero_order`` with the parameters' assumptions.
+
+    With the leading coefficient made positive: stable (marginal with one pole
+    at 0) when every coefficient and every Hurwitz determinant is positive for
+    all positive parameter values; unstable when one of them is negative for
+    all (a root then lies right of the axis); undetermined otherwise.  When the
+    leading coefficient's sign is open, only coefficients of both signs, or an
+    even-numbered determinant (unchanged by a change of sign) below zero,
+    settle it: unstable.
+    """
+    domain = den.domain
+    coeffs = den.rep.to_list()[: den.degree() + 1 - zero_order]
     offending = tuple([sympy.Integer(0)] * zero_order)
     if zero_order > 1:
         return "unstable", offending
-    minors = []
-    for k in range(1, degree + 1):
-        mat = sympy.Matrix(
-            k,
-            k,
-            lambda i, j: (
-                coeffs[2 * j - i + 1] if 0 <= 2 * j - i + 1 <= degree else sympy.Integer(0)
-            ),
-        )
-        minors.append(sympy.factor(mat.det()))
-    signs = [sympy.simplify(c).is_positive for c in coeffs] + [m_.is_positive for m_ in minors]
-    if all(signs):
-        return ("marginal" if zero_order else "stable"), offending
-    if any(sympy.simplify(x).is_negative for x in list(coeffs) + minors):
+    leading = _sign(coeffs[0], domain)
+    if leading == -1:
+        coeffs = [-c for c in coeffs]
+    determinants = _hurwitz_elements(coeffs, domain)
+    if leading is None:
+        signs = {_sign(c, domain) for c in coeffs}
+        if {1, -1} <= signs or any(_sign(d, domain) == -1 for d in determinants[1::2]):
+            return "unstable", offending
+        return "undetermined", offending
+    values = coeffs[1:] + determinants
+    # Cheap term signs first: one negative value settles the verdict.
+    signs = [_quick_sign(v, domain) for v in values]
+    if -1 in signs:
         return "unstable", offending
+    for index, value in enumerate(values):
+        if signs[index] is None:
+            signs[index] = _general_sign(domain.to_sympy(value))
+            if signs[index] == -1:
+                return "unstable", offending
+    if all(sign == 1 for sign in signs):
+        return ("marginal" if zero_order else "stable"), offending
     return "undetermined", offending
