@@ -234,7 +234,7 @@ def test_no_quantity_is_solved_or_inverted_twice(monkeypatch):
 
     asked: list[str] = []
     inverted: list[object] = []
-    solve, invert = Solution.response, responses.invert
+    solve, invert, invert_ratios = Solution.response, responses.invert, responses.invert_ratios
 
     def counting_response(self, quantity):
         asked.append(quantity.label)
@@ -244,8 +244,13 @@ def test_no_quantity_is_solved_or_inverted_twice(monkeypatch):
         inverted.append(transform)
         return invert(transform, s)
 
+    def counting_invert_ratios(transform, s, ratios):
+        inverted.append(transform)
+        return invert_ratios(transform, s, ratios)
+
     monkeypatch.setattr(Solution, "response", counting_response)
     monkeypatch.setattr(responses, "invert", counting_invert)
+    monkeypatch.setattr(responses, "invert_ratios", counting_invert_ratios)
     # The watched current in R is also the dissipation's; the watched node voltage also
     # the hazard check's; the drop's force in the damper is also watched and dissipated.
     lumped.analyse(lumped.loads(RC_STEP))

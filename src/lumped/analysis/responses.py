@@ -22,7 +22,7 @@ from __future__ import annotations
 from lumped import model as m
 from lumped.constants import s
 from lumped.errors import ParametersNeeded
-from lumped.inversion import TimeResponse, invert
+from lumped.inversion import TimeResponse, invert, invert_ratios
 from lumped.network import Response, Solution
 
 
@@ -61,9 +61,14 @@ class Responses:
         """
         label = quantity.label
         if label not in self._times:
+            response = self.response(quantity)
             try:
-                # invert makes irrational numbers rational
-                self._times[label] = invert(self.response(quantity).transform, s)
+                if response.ratios is not None:
+                    # The network's own polynomials: nothing to read back from the expression.
+                    self._times[label] = invert_ratios(response.transform, s, response.ratios)
+                else:
+                    # invert makes irrational numbers rational
+                    self._times[label] = invert(response.transform, s)
             except ParametersNeeded as needed:
                 self._times[label] = needed
         found = self._times[label]

@@ -5,7 +5,8 @@ with free parameters) from the network stage; hands on an immutable
 :class:`TimeResponse`: certified modes, impulses, the closed form in ``t``
 and the one fast evaluator that figures, plots and outputs share.
 
-Modules: :mod:`~lumped.inversion.inverse` (the entry point :func:`invert`),
+Modules: :mod:`~lumped.inversion.inverse` (the entry point :func:`invert`, and
+:func:`invert_ratios` for a transform already held as ratios over Q),
 :mod:`~lumped.inversion.delays` (delay groups), :mod:`~lumped.inversion.residues`
 (partial fractions and residues; certified roots and exact factors come from
 :mod:`lumped.algebra.roots`), :mod:`~lumped.inversion.closed_form` (the result
@@ -22,6 +23,6 @@ Examples
 """
 
 from lumped.inversion.closed_form import DEFAULT_T, Impulse, Mode, TimeResponse
-from lumped.inversion.inverse import invert
+from lumped.inversion.inverse import invert, invert_ratios
 
-__all__ = ["DEFAULT_T", "Impulse", "Mode", "TimeResponse", "invert"]
+__all__ = ["DEFAULT_T", "Impulse", "Mode", "TimeResponse", "invert", "invert_ratios"]

@@ -11,6 +11,7 @@ in as symbols of their own while the algebra runs over Q(parameters).
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import Any
 
 import sympy
@@ -202,3 +203,71 @@ def invert(
         _groups=tuple(groups),
         _numeric=tuple(numerics) if numerics is not None else None,
     )
+
+
+def invert_ratios(
+    transform: sympy.Expr,
+    s: sympy.Symbol,
+    ratios: Sequence[tuple[sympy.Expr, fmpq_poly, fmpq_poly]],
+    *,
+    t: sympy.Symbol | None = None,
+    digits: int = 30,
+) -> TimeResponse:
+    """:func:`invert` for a transform its caller holds as ratios over the rationals.
+
+    The network stage has each quantity's ``X(s) = sum_k N_k(s)/D_k(s) exp(-s T_k)``
+    as python-flint polynomials (one term per delay ``T_k``, a number); handing
+    them on spares reading them back from ``transform``.  The result is the
+    one :func:`invert` gives for ``transform``.
+
+    Parameters
+    ----------
+    transform : sympy.Expr
+        The same sum as an expression, kept in the result.
+    s : sympy.Symbol
+        The Laplace variable.
+    ratios : sequence of (sympy.Expr, fmpq_poly, fmpq_poly)
+        ``(T_k, N_k, D_k)``, one per delay.
+    t : sympy.Symbol, optional
+        Time symbol; default ``sympy.Symbol("t", real=True)``.
+    digits : int, optional
+        Significant digits for numeric poles and residues (default 30).
+
+    Returns
+    -------
+    TimeResponse
+
+    Examples
+    --------
+    >>> import sympy
+    >>> s = sympy.Symbol("s")
+    >>> ratio = (sympy.Integer(0), fmpq_poly([1]), fmpq_poly([0, 2, 1]))
+    >>> invert_ratios(1 / (s * (s + 2)), s, [ratio]).expression
+    1/2 - exp(-2*t)/2
+    """
+    if t is None:
+        t = DEFAULT_T
+    groups: list[_Group] = []
+    numerics: list[_NumericGroup] = []
+    for delay, numerator, denominator in sorted(ratios, key=lambda r: sympy.default_sort_key(r[0])):
+        if not delay.is_number or delay.is_negative:
+            raise TransformError(f"delay {delay} must be a number, zero or more")
+        if denominator.is_zero():
+            raise TransformError("transform has a zero denominator")
+        group, numeric = _numeric_group(numerator, denominator, delay, digits)
+        groups.append(group)
+        numerics.append(numeric)
+    return TimeResponse(
+        modes=tuple(m for g in groups for m in g.modes),
+        impulses=tuple(i for g in groups for i in g.impulses),
+        parameters=frozenset(),
+        transform=transform,
+        s=s,
+        t=t,
+        digits=digits,
+        rounded=False,
+        _restore=(),
+        _groups=tuple(groups),
+        _numeric=tuple(numerics),
+    )
+

@@ -16,14 +16,12 @@ Examples
 
 from __future__ import annotations
 
-from dataclasses import replace
-
 import sympy
 
 from lumped.model import Netlist
 from lumped.network.initial import initial_notes, static_values
 from lumped.network.solution import Solution
-from lumped.network.solve import solve
+from lumped.network.solve import Pencil
 from lumped.network.sources import Piece
 from lumped.network.stamps import plan_equations
 from lumped.topology import Topology, check_solvable, validate
@@ -70,8 +68,10 @@ def assemble(network: Topology | Netlist) -> Solution:
         check_solvable(network)
         network = validate(network)
     plan = plan_equations(network)
-    denominator, numerators = solve(plan)
-    solution = Solution(plan, denominator, numerators)
+    # The matrix does not depend on the excitations: one pencil serves the solution
+    # before and after the equilibrium values are known.
+    pencil = Pencil(plan)
+    solution = Solution(plan, pencil)
     notes = list(plan.notes)
     extra: dict[str, sympy.Expr] = {}
     if plan.equilibrium:
@@ -92,4 +92,4 @@ def assemble(network: Topology | Netlist) -> Solution:
                     f"the initial value written for {name} is taken on top of its equilibrium value"
                 )
     notes.extend(initial_notes(plan, extra))
-    return replace(solution, plan=plan, notes=tuple(notes))
+    return Solution(plan, pencil, tuple(notes))

@@ -28,7 +28,7 @@ import sympy
 
 from lumped.model import REFERENCE_NODES, Element, Kind, Role
 from lumped.network import sources as waveforms
-from lumped.network.solution import Form, Solution, across, network_function
+from lumped.network.solution import Form, Solution, across
 from lumped.network.stamps import Plan
 from lumped.topology import DATUM, Multigraph, connected_components, solve_error
 
@@ -71,15 +71,8 @@ def static_values(solution: Solution) -> Mapping[str, sympy.Expr]:
     assert gravity is not None
 
     def static(form: Form) -> sympy.Expr | None:
-        total = sympy.Integer(0)
-        for j in plan.gravity_inputs.values():
-            num, den = network_function(solution.denominator, solution.numerators, form, j)
-            if num.is_zero:
-                continue
-            if den.eval(0) == 0:  # Poly.eval is polynomial evaluation, not Python's eval
-                return None
-            total += num.eval(0) / den.eval(0)  # Poly.eval at s = 0 (the static limit)
-        return sympy.simplify(total * gravity)
+        total = solution.static_value(form, plan.gravity_inputs.values())
+        return None if total is None else sympy.simplify(total * gravity)
 
     unsupported = []
     for element in netlist.elements:

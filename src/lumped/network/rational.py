@@ -16,7 +16,12 @@ Examples
 
 from __future__ import annotations
 
+import functools
+from collections.abc import Callable
+
 import sympy
+from sympy.core.add import Add, _addsort
+from sympy.core.mul import Mul
 from sympy.polys.constructor import construct_domain
 
 from lumped.algebra.exact import rationalise
@@ -137,7 +142,120 @@ def as_expr(num: sympy.Poly, den: sympy.Poly) -> sympy.Expr:
     """
     if num.is_zero:
         return sympy.Integer(0)
-    return num.as_expr() / den.as_expr()
+    return poly_expr(num) / poly_expr(den)
+
+
+def poly_expr(p: sympy.Poly) -> sympy.Expr:
+    """``p.as_expr()``: the same expression, built directly for rational coefficients.
+
+    A polynomial of high degree with long rational coefficients spends most of
+    ``as_expr`` in sympy's general flattening of each term; the terms of a
+    polynomial in ``s`` need none, so they are put in sympy's canonical order
+    (the number first, then the sorted terms) as sympy would.
+
+    Examples
+    --------
+    >>> poly_expr(poly(3 * s**2 - s / 2 + 1)) == (3 * s**2 - s / 2 + 1)
+    True
+    """
+    if p.gens != (s,) or not (p.domain.is_ZZ or p.domain.is_QQ):
+        return p.as_expr()
+    to_sympy = p.domain.to_sympy
+    return sum_of_powers([(k, to_sympy(c)) for (k,), c in p.terms()])
+
+
+def sum_of_powers(items: list[tuple[int, sympy.Rational]]) -> sympy.Expr:
+    """``sum c * s**k`` over ``(k, c)`` with rational ``c``, as sympy builds it.
+
+    Examples
+    --------
+    >>> sum_of_powers([(2, sympy.Integer(-1)), (0, sympy.Rational(1, 2))])
+    1/2 - s**2
+    """
+    constant = None
+    terms = []
+    keys = []
+    order = _term_order()
+    for power, coefficient in items:
+        if coefficient == 0:
+            continue
+        if power == 0:
+            constant = coefficient
+            continue
+        base = s if power == 1 else sympy.Pow(s, sympy.Integer(power))
+        terms.append(base if coefficient == 1 else Mul._from_args((coefficient, base)))
+        if order is not None:
+            keys.append(order(power, coefficient))
+    if order is None:
+        _addsort(terms)
+    else:
+        terms = [term for _, term in sorted(zip(keys, terms, strict=True), key=_first)]
+    if constant is not None:
+        terms.insert(0, constant)
+    if not terms:
+        return sympy.Integer(0)
+    if len(terms) == 1:
+        return terms[0]
+    return Add._from_args(terms)
+
+
+def rational(numerator: int, denominator: int) -> sympy.Rational:
+    """The sympy rational ``numerator / denominator`` of two coprime integers, ``denominator > 0``.
+
+    Examples
+    --------
+    >>> rational(3, 4), rational(6, 1)
+    (3/4, 6)
+    """
+    return _FROM_COPRIME(numerator, denominator)
+
+
+_FROM_COPRIME = getattr(sympy.Rational, "from_coprime_ints", None) or sympy.Rational
+
+
+def _first(pair: tuple) -> object:
+    return pair[0]
+
+
+@functools.cache
+def _term_order() -> Callable[[int, sympy.Rational], tuple] | None:
+    """A sort key that puts terms ``c * s**k`` in sympy's canonical order, or None.
+
+    Sympy orders the terms of a sum by comparing them (``Basic.compare``): by
+    class (``ordering_of_classes``), then by their contents in turn.  For terms
+    ``c * s**k`` that comes down to integers, which sort far faster than
+    comparisons of expressions.  The key is checked against sympy's own sort on
+    terms of every kind before it is used; without a match sympy sorts.
+    """
+    from sympy.core.basic import ordering_of_classes
+
+    index = {name: i for i, name in enumerate(ordering_of_classes)}
+    if not {"Symbol", "Pow", "Mul", "Half", "NegativeOne", "Integer", "Rational"} <= set(index):
+        return None
+    symbol, power_class, product = index["Symbol"], index["Pow"], index["Mul"]
+
+    def key(power: int, coefficient: sympy.Rational) -> tuple:
+        base = (symbol,) if power == 1 else (power_class, power)
+        if coefficient == 1:
+            return base
+        return (product, (index[type(coefficient).__name__], int(coefficient.p),
+                          int(coefficient.q)), base)
+
+    sample = [sympy.Integer(c) for c in (-1, 1, 2, -3, 10**40, -(10**40))]
+    sample += [sympy.Rational(p, q) for p, q in ((1, 2), (-1, 2), (5, 7), (-5, 7), (1, 3),
+                                                  (10**30 + 1, 10**20))]
+    items = [(k, c) for k in (1, 2, 3, 10) for c in sample]
+    terms = [s**k if c == 1 else Mul._from_args((c, s**k if k > 1 else s)) for k, c in items]
+    expected = list(terms)
+    _addsort(expected)
+    try:
+        found = [term for _, term in sorted(zip((key(k, c) for k, c in items), terms,
+                                                strict=True), key=_first)]
+    except KeyError:
+        return None
+    return key if found == expected and all(
+        a is b for a, b in zip(found, expected, strict=True)) else None
+
 
 
 def is_plain(weight: sympy.Expr | int) -> bool:

@@ -1,8 +1,12 @@
 """The solved network: any quantity as a transform, split by the excitation it comes from.
 
 A watched quantity is a linear form of the unknowns (``s**order * (c^T x +
-sum_j direct_j)``); with ``x_j = N_j / D`` from the solve, each input ``j``
-gives a network function, times the input's transform.
+sum_j direct_j)``).  Every excitation of one kind (sources and weights; initial
+conditions and drops) that starts at the same time is folded into one
+right-hand side, so a quantity's transform comes from one exact solve per
+start time, over the network's one characteristic polynomial ``D(s)``; the
+split by excitation (:attr:`Response.contributions`) is worked out when it is
+asked for, input by input (``x_j = N_j / D``).
 
 Conventions for watched quantities:
 
@@ -28,10 +32,13 @@ Examples
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+import functools
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
+from typing import Any
 
+import flint
 import sympy
 
 from lumped.constants import s
@@ -54,14 +61,19 @@ from lumped.network.rational import (
     is_plain,
     poly,
     ratio,
+    rational,
+    sum_of_powers,
 )
-from lumped.network.sources import Piece
+from lumped.network.solve import Pencil, to_sympy_poly
 from lumped.network.stamps import Plan
 from lumped.network.transfer import TransferFunction, describe
 from lumped.topology import Topology
 
 _ZERO_STATE = ("source", "gravity")
 _EMPTY: Mapping[int, sympy.Expr] = MappingProxyType({})
+
+# A ratio of polynomials in s: python-flint's for numbers, sympy's with parameters.
+Ratio = tuple[Any, Any]
 
 
 @dataclass(frozen=True)
@@ -95,9 +107,21 @@ class Contribution:
     terms: tuple[tuple[sympy.Expr, sympy.Expr], ...] = ()
 
 
+def _nothing() -> tuple:
+    return ()
+
+
+def _no_sides() -> tuple[sympy.Expr, sympy.Expr]:
+    return sympy.Integer(0), sympy.Integer(0)
+
+
 @dataclass(frozen=True)
 class Response:
     """The Laplace transform of one watched quantity.
+
+    The split of the transform by excitation is worked out the first time it
+    is read (it takes one solve per excitation, where the transform took one
+    per start time).
 
     Attributes
     ----------
@@ -106,21 +130,50 @@ class Response:
         ``sum_k R_k(s) exp(-s T_k)``; each ``R_k`` a ratio of polynomials in ``s``.
     unit : str
         SI unit of the quantity in time.
-    zero_state, zero_input : sympy.Expr
-        Parts due to sources and gravity, and to initial conditions and drops.
-    contributions : tuple of Contribution
-        ``sum(c.weight * c.transform) == transform``.
     terms : tuple of (sympy.Expr, sympy.Expr)
         ``((R_k, T_k), ...)`` with ``transform == sum R_k exp(-s T_k)``.
+    ratios : tuple of (sympy.Expr, flint.fmpq_poly, flint.fmpq_poly) or None
+        ``((T_k, N_k, D_k), ...)``: the same terms as python-flint polynomials in
+        ``s`` (``D_k`` monic, each a divisor of the network's characteristic
+        polynomial times the sources' denominators), when every coefficient is
+        rational; ``None`` otherwise.
+    zero_state, zero_input : sympy.Expr
+        Parts due to sources and gravity, and to initial conditions and drops;
+        each a sum over start times of one ratio.
+    contributions : tuple of Contribution
+        One per excitation (and irrational weight), ``sum(c.weight * c.transform) ==
+        transform``.
     """
 
     quantity: Quantity
     transform: sympy.Expr
     unit: str
-    zero_state: sympy.Expr
-    zero_input: sympy.Expr
-    contributions: tuple[Contribution, ...]
     terms: tuple[tuple[sympy.Expr, sympy.Expr], ...] = ()
+    ratios: tuple[tuple[sympy.Expr, Any, Any], ...] | None = field(
+        default=None, repr=False, compare=False)
+    sides: Callable[[], tuple[sympy.Expr, sympy.Expr]] = field(
+        default=_no_sides, repr=False, compare=False)
+    split: Callable[[], tuple[Contribution, ...]] = field(
+        default=_nothing, repr=False, compare=False)
+
+    @functools.cached_property
+    def _sides(self) -> tuple[sympy.Expr, sympy.Expr]:
+        return self.sides()
+
+    @property
+    def zero_state(self) -> sympy.Expr:
+        """The part due to sources and gravity."""
+        return self._sides[0]
+
+    @property
+    def zero_input(self) -> sympy.Expr:
+        """The part due to initial conditions and drops."""
+        return self._sides[1]
+
+    @functools.cached_property
+    def contributions(self) -> tuple[Contribution, ...]:
+        """The transform split by excitation (and irrational weight)."""
+        return tuple(self.split())
 
 
 @dataclass(frozen=True)
@@ -159,11 +212,17 @@ def network_function(
     j: int,
 ) -> tuple[sympy.Poly, sympy.Poly]:
     """``s**order (c^T N_j / D + direct_j)`` as a cancelled ratio of polynomials in ``s``."""
+    return _sympy_function(denominator, numerators[j], form, j)
+
+
+def _sympy_function(
+    denominator: sympy.Poly, numerators: tuple[sympy.Poly, ...], form: Form, j: int
+) -> tuple[sympy.Poly, sympy.Poly]:
     den = denominator
     num = poly(sympy.Integer(0))
     # Coefficients such as a damper's pi*0.004 are taken as the solve took them.
     for i, coeff in form.coeffs.items():
-        nij = numerators[j][i]
+        nij = numerators[i]
         if not nij.is_zero:
             num = num + nij * poly(exact_entry(coeff))
     if j in form.direct:
@@ -177,29 +236,180 @@ def network_function(
     return cancel(num, den)
 
 
+# --------------------------------------------------------------------------- ratios over Q
+
+
+def _flint(value: sympy.Expr) -> flint.fmpq_poly:
+    """A polynomial in ``s`` with rational coefficients (an exact entry) as ``fmpq_poly``."""
+    if value.is_Rational:
+        return flint.fmpq_poly([flint.fmpq(int(value.p), int(value.q))])
+    coeffs = sympy.Poly(value, s).all_coeffs()
+    return flint.fmpq_poly([flint.fmpq(int(c.p), int(c.q)) for c in reversed(coeffs)])
+
+
+def _flint_ratio(shape: sympy.Expr) -> Ratio | None:
+    """An exact shape as a python-flint ratio, or None when it holds parameters."""
+    if shape.free_symbols - {s}:
+        return None
+    num, den = ratio(shape)
+    num, den = _flint(num.as_expr()), _flint(den.as_expr())
+    # A monic denominator: the least common multiple of several is then free of constants.
+    lead = den[den.degree()]
+    return num / lead, den / lead
+
+
+def _flint_cancel(num: flint.fmpq_poly, den: flint.fmpq_poly) -> Ratio:
+    """Without common factors, monic denominator: :func:`cancel` over Q, in python-flint."""
+    if num.is_zero():
+        return num, flint.fmpq_poly([1])
+    common = num.gcd(den)
+    if common.degree() > 0:
+        num, den = num // common, den // common
+    lead = den[den.degree()]
+    return num / lead, den / lead
+
+
+def _flint_expr(p: flint.fmpq_poly) -> sympy.Expr:
+    """A polynomial in ``s`` as sympy's ``Poly.as_expr`` writes it."""
+    return sum_of_powers([(k, rational(int(c.p), int(c.q)))
+                          for k, c in enumerate(p.coeffs()) if c != 0])
+
+
+def _is_flint(pair: Ratio) -> bool:
+    return isinstance(pair[0], flint.fmpq_poly)
+
+
+def _is_zero(pair: Ratio) -> bool:
+    return pair[0].is_zero() if _is_flint(pair) else pair[0].is_zero
+
+
+def _add(pairs: list[Ratio], in_s: Callable[[Ratio], Ratio]) -> Ratio | None:
+    """The sum of ratios over their least common denominator, cancelled; None when zero.
+
+    ``in_s`` takes a python-flint ratio (in ``t``) to sympy's (in ``s``) when both meet.
+    """
+    pairs = [p for p in pairs if not _is_zero(p)]
+    if not pairs:
+        return None
+    if len(pairs) == 1:
+        return pairs[0]
+    if all(_is_flint(p) for p in pairs):
+        num, den = pairs[0]
+        for n2, d2 in pairs[1:]:
+            common = den.gcd(d2)
+            left, right = den // common, d2 // common
+            num, den = num * right + n2 * left, left * d2
+        num, den = _flint_cancel(num, den)
+    else:
+        num, den = in_s(pairs[0])
+        for pair in pairs[1:]:
+            n2, d2 = in_s(pair)
+            num, n2 = num.unify(n2)
+            den, d2 = den.unify(d2)
+            common = _poly_gcd(den, d2)
+            if common is None:
+                # Irrational coefficients among parameters: no gcd to take (see cancel).
+                num, den = num * d2 + n2 * den, den * d2
+            else:
+                left, right = den.exquo(common), d2.exquo(common)
+                num, den = num * right + n2 * left, left * d2
+        num, den = cancel(num, den)
+    return None if _is_zero((num, den)) else (num, den)
+
+
+def _poly_gcd(a: sympy.Poly, b: sympy.Poly) -> sympy.Poly | None:
+    a, b = a.unify(b)
+    domain = a.domain
+    if domain.is_EX or domain.is_EXRAW:
+        return None
+    if domain.is_PolynomialRing:
+        if not all(isinstance(g, sympy.Symbol) for g in domain.symbols):
+            return None
+        others = list(domain.symbols)
+        common = a.inject().gcd(b.inject())
+        return common.reorder(s, *others).eject(*others)
+    if domain.is_FractionField and not all(isinstance(g, sympy.Symbol) for g in domain.symbols):
+        return None
+    return a.gcd(b)
+
+
+def _minus_initial(num: Any, den: Any) -> Ratio:
+    """``s V - v(0-)`` for an initial-condition part, ``v(0-) = lim_{s->oo} s V``.
+
+    The initial-condition part alone starts from the stored state, so its
+    value just after 0 is the value just before.  When that part is not
+    strictly proper after multiplying by ``s`` (an impulse at 0: the initial
+    conditions are inconsistent), it is left as it is.
+    """
+    if isinstance(num, flint.fmpq_poly):
+        if num.degree() != den.degree():
+            return num, den
+        v0 = num[num.degree()] / den[den.degree()]
+        return _flint_cancel(num - den * v0, den)
+    if num.degree() != den.degree():
+        return num, den
+    v0 = num.LC() / den.LC()
+    return cancel(num - den * v0, den)
+
+
+def _delay(delay: sympy.Expr | int) -> sympy.Expr:
+    return sympy.Integer(delay) if delay == 0 else delay
+
+
+@dataclass(frozen=True)
+class _Part:
+    """One input's transform at one start time and with one weight.
+
+    ``shape`` is exact (irrational numbers as rationals), with a plain weight
+    folded in; ``numeric`` is the same ratio in python-flint, in ``t`` with a
+    monic denominator, when it holds no parameters.
+    """
+
+    j: int
+    weight: sympy.Expr
+    delay: sympy.Expr
+    shape: sympy.Expr
+    numeric: Ratio | None
+    side: int  # 0: zero state (sources, gravity); 1: zero input (initial values, drops)
+
+
+@dataclass(frozen=True)
+class _Fold:
+    """The inputs of one kind that start together, solved as one right-hand side.
+
+    Unknown ``i`` is ``solved.numerator(index, i) / (D common)`` in ``t``, ``common``
+    the least common multiple of the parts' shape denominators.
+    """
+
+    parts: tuple[_Part, ...]
+    common: flint.fmpq_poly
+    solved: Any
+    index: int
+
+
 @dataclass(frozen=True)
 class Solution:
-    """The solved network: ``x_j = N_j / D`` for every input ``j``.
+    """The solved network: ``x = N / D`` for any excitation, ``D`` shared by all.
 
     Build it with :func:`lumped.network.assemble`.  ``notes`` holds remarks on
     the network (impulses at ``t = 0`` from initial conditions that break KVL
-    or KCL, and choices made on the user's behalf).
+    or KCL, and choices made on the user's behalf).  Solves are made when a
+    response asks for them and kept (one per start time for every response,
+    one per input for transfer functions and the split by excitation).
 
     Attributes
     ----------
     plan : Plan
         The unknowns, rows and inputs the solve took.
-    denominator : sympy.Poly
-        ``D(s)``, shared by every unknown.
-    numerators : tuple of tuple of sympy.Poly
-        ``numerators[j][i]``: unknown ``i`` for input ``j``.
+    pencil : Pencil
+        The network matrix and its exact solutions.
     notes : tuple of str
     """
 
     plan: Plan
-    denominator: sympy.Poly
-    numerators: tuple[tuple[sympy.Poly, ...], ...]
+    pencil: Pencil = field(repr=False, compare=False)
     notes: tuple[str, ...] = ()
+    _cache: dict = field(init=False, default_factory=dict, repr=False, compare=False)
 
     # ----- small public helpers
 
@@ -217,6 +427,24 @@ class Solution:
     def unknowns(self) -> tuple[tuple[str, str], ...]:
         """The unknowns in order: ``('node' | 'branch' | 'coupling', name)``."""
         return self.plan.unknowns
+
+    @property
+    def denominator(self) -> sympy.Poly:
+        """``D(s)``, the characteristic polynomial shared by every unknown (up to a constant)."""
+        return self.pencil.denominator
+
+    @property
+    def numerators(self) -> tuple[tuple[sympy.Poly, ...], ...]:
+        """``numerators[j][i]``: unknown ``i`` for input ``j`` is ``N_ji / D`` (solved on use)."""
+        inputs = range(len(self.plan.inputs))
+        if not self.pencil.numeric:
+            return tuple(self.pencil.symbolic_numerators(j) for j in inputs)
+        # Over the integer D(s) of `denominator`: a**d D(t) with scale = a/b.
+        factor = flint.fmpq(int(self.pencil.scale.p) ** self.pencil.degree)
+        unknowns = range(len(self.plan.unknowns))
+        found = self._input_numerators(unknowns, inputs)
+        return tuple(tuple(to_sympy_poly(self.pencil.to_s(found[i, j]) * factor)
+                           for i in unknowns) for j in inputs)
 
     def node_domain(self, node: str) -> Domain | None:
         """Domain of a node, inferred from what touches it (``None`` if unknown)."""
@@ -268,19 +496,275 @@ class Solution:
         5/(s + 1/2)
         """
         form = self._form(quantity)
+        parts = self._parts()
+        folds = self._folds() if self.pencil.numeric else {}
+
+        def folded(part: _Part) -> bool:
+            # Acceleration subtracts v(0-) input by input from the initial part.
+            return (part.weight == 1 and part.numeric is not None
+                    and (part.side, part.delay) in folds
+                    and not (form.order == 1 and part.side == 1 and part.delay == 0))
+
+        single = [p for p in parts if not folded(p)]
+        functions = self._functions(form, {p.j for p in single})
+        # Plain parts, by start time and side; weighted ones, input by input.
+        plain: dict[sympy.Expr, tuple[list[Ratio], list[Ratio]]] = {}
+        weighted: dict[tuple[int, sympy.Expr], list[tuple[Ratio, sympy.Expr]]] = {}
+        done: set[tuple[int, sympy.Expr]] = set()
+        for part in parts:
+            if part.weight == 1:
+                sums = plain.setdefault(part.delay, ([], []))
+            if folded(part):
+                key = (part.side, part.delay)
+                if key not in done:
+                    done.add(key)
+                    pair = self._fold_ratio(folds[key], form)
+                    if pair is not None:
+                        sums[part.side].append(pair)
+                continue
+            pair = self._part_ratio(part, form, functions[part.j])
+            if pair is None:
+                continue
+            if part.weight == 1:
+                sums[part.side].append(pair)
+            else:
+                weighted.setdefault((part.j, part.weight), []).append((pair, part.delay))
+        totals: list[tuple[sympy.Expr, sympy.Expr]] = []
+        ratios: list[tuple[sympy.Expr, Any, Any]] | None = [] if not weighted else None
+        side_totals: dict[sympy.Expr, tuple[Ratio | None, Ratio | None]] = {}
+        for delay, (state, initial) in plain.items():
+            state_sum, initial_sum = _add(state, self._in_s), _add(initial, self._in_s)
+            side_totals[delay] = (state_sum, initial_sum)
+            both = [p for p in (state_sum, initial_sum) if p is not None]
+            total = _add(both, self._in_s) if len(both) > 1 else (both[0] if both else None)
+            if total is not None:
+                totals.append((self._expr(total), _delay(delay)))
+                if ratios is not None and _is_flint(total):
+                    ratios.append((_delay(delay), *self._flint_in_s(total)))
+                else:
+                    ratios = None
+        weighted_terms: list[tuple[int, sympy.Expr, list[tuple[sympy.Expr, sympy.Expr]]]] = []
+        for (j, weight), pairs in weighted.items():
+            exprs = [(self._expr(pair), _delay(delay)) for pair, delay in pairs]
+            weighted_terms.append((j, weight, exprs))
+            totals.extend((weight * expr, delay) for expr, delay in exprs)
+        transform = sympy.Add(*(r_ * delay_factor(t_) for r_, t_ in totals))
+        if ratios == []:
+            # Nothing reaches the quantity: zero, as the inversion reads ``0``.
+            ratios = [(sympy.Integer(0), flint.fmpq_poly([0]), flint.fmpq_poly([1]))]
+        inputs = self.plan.inputs
+
+        def sides() -> tuple[sympy.Expr, sympy.Expr]:
+            out = []
+            for side in (0, 1):
+                terms = [self._expr(pair) * delay_factor(_delay(delay))
+                         for delay, pairs in side_totals.items()
+                         if (pair := pairs[side]) is not None]
+                for j, weight, exprs in weighted_terms:
+                    if (inputs[j].origin in _ZERO_STATE) == (side == 0):
+                        terms.append(weight * sympy.Add(*(r_ * delay_factor(t_)
+                                                          for r_, t_ in exprs)))
+                out.append(sympy.Add(*terms))
+            return out[0], out[1]
+
+        return Response(quantity, transform, quantity.kind.unit, tuple(totals),
+                        None if ratios is None else tuple(ratios), sides,
+                        functools.partial(self._contributions, form))
+
+    def _contributions(self, form: Form) -> tuple[Contribution, ...]:
+        """The response split by excitation (and irrational weight), input by input."""
+        parts = self._parts()
+        functions = self._functions(form, {p.j for p in parts})
         contributions: list[Contribution] = []
-        by_delay: dict[sympy.Expr, tuple[sympy.Poly, sympy.Poly]] = {}
-        weighted: list[tuple[sympy.Poly, sympy.Poly, sympy.Expr, sympy.Expr]] = []
+        groups: dict[tuple[int, sympy.Expr], list[tuple[Ratio, sympy.Expr]]] = {}
+        for part in parts:
+            pair = self._part_ratio(part, form, functions[part.j])
+            pairs = groups.setdefault((part.j, part.weight), [])
+            if pair is not None:
+                pairs.append((pair, part.delay))
+        for (j, weight), pairs in groups.items():
+            if not pairs:
+                continue
+            inp = self.plan.inputs[j]
+            terms = tuple((self._expr(pair), _delay(delay)) for pair, delay in pairs)
+            transform = sympy.Add(*(r_ * delay_factor(t_) for r_, t_ in terms))
+            label = inp.label if weight == 1 else f"{inp.label} (times {weight})"
+            contributions.append(
+                Contribution(label, inp.element, inp.origin, weight, transform, terms))
+        return tuple(contributions)
+
+    def static_value(self, form: Form, inputs: Iterable[int]) -> sympy.Expr | None:
+        """``lim_{s->0}`` of the quantity's network functions from ``inputs``, added up.
+
+        ``None`` when one of them has a pole at ``s = 0`` (no static value).
+
+        Examples
+        --------
+        >>> from lumped.language.parse import parse_text
+        >>> from lumped.network import assemble
+        >>> solution = assemble(parse_text("current source I at a step 1 A\\n"
+        ...                                "resistor R at a 3 ohm\\n"))
+        >>> solution.static_value(Form(across(solution.plan, "a", "ground")),
+        ...                       solution.plan.source_inputs.values())
+        3
+        """
+        inputs = list(inputs)
+        plan = self.plan
+        if self.pencil.numeric and form.order == 0 and not form.direct and inputs:
+            # One solve of A(0) x = sum_j b_j serves every store asked about.
+            solved = self._cache.setdefault("static", {})
+            key = tuple(inputs)
+            if key not in solved:
+                column: dict[int, sympy.Expr] = {}
+                for j in inputs:
+                    for r, v in plan.inputs[j].column.items():
+                        column[r] = column.get(r, 0) + v
+                solved[key] = self.pencil.static_solution(column)
+            values = solved[key]
+            if values is not None:
+                # A(0) is invertible: no network function has a pole at 0, and the
+                # sum of their values at 0 is the value of their sum.
+                return sympy.Add(*(exact_entry(coeff).subs(s, 0) * values[i]
+                                   for i, coeff in form.coeffs.items()))
+        functions = self._functions(form, set(inputs))
+        total = sympy.Integer(0)
+        for j in inputs:
+            num, den = self._in_s(functions[j])
+            if num.is_zero:
+                continue
+            if den.eval(0) == 0:  # Poly.eval is polynomial evaluation, not Python's eval
+                return None
+            total += num.eval(0) / den.eval(0)  # Poly.eval at s = 0 (the static limit)
+        return total
+
+    # ----- solves, kept
+
+    def _input_numerators(
+        self, unknowns: Iterable[int], inputs: Iterable[int]
+    ) -> dict[tuple[int, int], flint.fmpq_poly]:
+        """``(i, j) ->`` unknown ``i``'s numerator in ``t`` for input ``j`` (numeric; kept)."""
+        known: dict[tuple[int, int], flint.fmpq_poly] = self._cache.setdefault("inputs", {})
+        unknowns, inputs = list(unknowns), list(inputs)
+        missing_inputs = [j for j in inputs if any((i, j) not in known for i in unknowns)]
+        if missing_inputs:
+            missing = [i for i in unknowns if any((i, j) not in known for j in missing_inputs)]
+            known.update(self.pencil.input_numerators(missing, missing_inputs))
+        return known
+
+    def _functions(self, form: Form, inputs: set[int]) -> dict[int, Ratio]:
+        """``s**order (c^T N_j / D + direct_j)`` for each input ``j``, cancelled.
+
+        In ``t`` with python-flint for a numeric pencil, in ``s`` with sympy otherwise.
+        """
+        order = sorted(inputs)
+        if not self.pencil.numeric:
+            den = self.pencil.denominator
+            return {j: _sympy_function(den, self.pencil.symbolic_numerators(j), form, j)
+                    for j in order}
+        den = self._denominator_t()
+        coeffs = self._coeffs_t(form)
+        numerators = self._input_numerators(coeffs, order)
+        out = {}
+        for j in order:
+            num = flint.fmpq_poly([0])
+            for i, coeff in coeffs.items():
+                if not numerators[i, j].is_zero():
+                    num += numerators[i, j] * coeff
+            if j in form.direct:
+                num += den * self._to_t(form.direct[j])
+            out[j] = self._finish(num, den, form)
+        return out
+
+    def _finish(self, num: flint.fmpq_poly, den: flint.fmpq_poly, form: Form) -> Ratio:
+        if num.is_zero():
+            return num, flint.fmpq_poly([1])
+        if form.order == 1:
+            num = num * self._s_in_t()
+        elif form.order == -1:
+            den = den * self._s_in_t()
+        return _flint_cancel(num, den)
+
+    # ----- python-flint in t, sympy in s
+
+    def _denominator_t(self) -> flint.fmpq_poly:
+        if "denominator" not in self._cache:
+            self._cache["denominator"] = self.pencil.denominator_t()
+        return self._cache["denominator"]
+
+    def _s_in_t(self) -> flint.fmpq_poly:
+        """``s`` as a polynomial in ``t``."""
+        scale = self.pencil.scale
+        return flint.fmpq_poly([0, flint.fmpq(int(scale.p), int(scale.q))])
+
+    def _to_t(self, value: sympy.Expr | int) -> flint.fmpq_poly:
+        """An exact polynomial in ``s`` with rational coefficients, in ``t``."""
+        return self.pencil.to_t(_flint(exact_entry(value)))
+
+    def _coeffs_t(self, form: Form) -> dict[int, flint.fmpq_poly]:
+        return {i: self._to_t(c) for i, c in form.coeffs.items()}
+
+    def _in_s(self, pair: Ratio) -> tuple[sympy.Poly, sympy.Poly]:
+        """A ratio as sympy polynomials in ``s``, denominator monic for numbers."""
+        if not _is_flint(pair):
+            return pair
+        if pair[0].is_zero():
+            return poly(sympy.Integer(0)), poly(sympy.Integer(1))
+        num, den = self._flint_in_s(pair)
+        return to_sympy_poly(num), to_sympy_poly(den)
+
+    def _expr(self, pair: Ratio) -> sympy.Expr:
+        """A ratio as one expression in ``s`` (as :func:`as_expr` writes it)."""
+        if not _is_flint(pair):
+            return as_expr(*pair)
+        num, den = self._flint_in_s(pair)
+        if num.is_zero():
+            return sympy.Integer(0)
+        # Most quantities of one network share their denominator: write it once.
+        written: list[tuple[flint.fmpq_poly, sympy.Expr]] = self._cache.setdefault(
+            "denominators", [])
+        found = next((expr for known, expr in written if known == den), None)
+        if found is None:
+            found = _flint_expr(den)
+            written.append((den, found))
+        return _flint_expr(num) / found
+
+    def _flint_in_s(self, pair: Ratio) -> Ratio:
+        """A python-flint ratio in ``t`` as one in ``s``, denominator monic."""
+        num, den = pair
+        if num.is_zero():
+            return num, flint.fmpq_poly([1])
+        num, den = self.pencil.to_s(num), self.pencil.to_s(den)
+        lead = den[den.degree()]
+        return num / lead, den / lead
+
+    def _part_ratio(self, part: _Part, form: Form, function: Ratio) -> Ratio | None:
+        """One input's part: its network function times its shape, cancelled; None if zero."""
+        if _is_zero(function):
+            return None
+        if part.numeric is not None and _is_flint(function):
+            num, den = _flint_cancel(function[0] * part.numeric[0], function[1] * part.numeric[1])
+        else:
+            hnum, hden = self._in_s(function)
+            snum, sden = ratio(part.shape)
+            num, den = cancel(hnum * snum, hden * sden)
+        if form.order == 1 and self.plan.inputs[part.j].origin in ("initial", "drop") \
+                and part.delay == 0:
+            num, den = _minus_initial(num, den)
+        return None if _is_zero((num, den)) else (num, den)
+
+    def _parts(self) -> tuple[_Part, ...]:
+        """Every input's transform by weight and start time, in the inputs' order."""
+        if "parts" in self._cache:
+            return self._cache["parts"]
+        parts: list[_Part] = []
         for j, inp in enumerate(self.plan.inputs):
             if not inp.pieces:
                 continue
-            hnum, hden = network_function(self.denominator, self.numerators, form, j)
-            if hnum.is_zero:
-                continue
-            groups: dict[sympy.Expr, list[Piece]] = {}
+            groups: dict[sympy.Expr, list] = {}
             for piece in inp.pieces:
                 key = sympy.Integer(1) if is_plain(piece.weight) else piece.weight
                 groups.setdefault(key, []).append(piece)
+            side = 0 if inp.origin in _ZERO_STATE else 1
             for weight, pieces in groups.items():
                 delays: dict[sympy.Expr, sympy.Expr] = {}
                 for piece in pieces:
@@ -290,69 +774,73 @@ class Solution:
                         else piece.shape * piece.weight
                     )
                     delays[piece.delay] = delays.get(piece.delay, sympy.Integer(0)) + shape
-                parts = []
                 for delay, shape in delays.items():
                     # A sine's 2 pi f or phase: the same 40-digit rationals the matrix
                     # takes, so the algebra stays over Q (fast, and exact from there on).
-                    snum, sden = ratio(exact_entry(shape))
-                    num, den = cancel(hnum * snum, hden * sden)
-                    if form.order == 1 and inp.origin in ("initial", "drop") and delay == 0:
-                        num, den = _minus_initial(num, den)
-                    if num.is_zero:
-                        continue
-                    parts.append((num, den, delay))
-                    if weight != 1:
-                        # Irrational weights (a drop's sqrt(2 g h)) stay outside the
-                        # polynomials: cancelling over such coefficients is very slow.
-                        weighted.append((num, den, delay, weight))
-                        continue
-                    acc = by_delay.get(delay)
-                    if acc is None:
-                        by_delay[delay] = (num, den)
-                    else:
-                        by_delay[delay] = (acc[0] * den + num * acc[1], acc[1] * den)
-                if not parts:
-                    continue
-                terms = tuple(
-                    (as_expr(n_, d_), sympy.Integer(t_) if t_ == 0 else t_) for n_, d_, t_ in parts
-                )
-                transform = sympy.Add(*(r_ * delay_factor(t_) for r_, t_ in terms))
-                label = inp.label if weight == 1 else f"{inp.label} (times {weight})"
-                contributions.append(
-                    Contribution(label, inp.element, inp.origin, weight, transform, terms)
-                )
-        if len(contributions) == 1 and contributions[0].weight == 1:
-            # The same sum: skip rebuilding it.
-            transform, total = contributions[0].transform, contributions[0].terms
-        else:
-            total_list = []
-            for delay, (num, den) in by_delay.items():
-                num, den = cancel(num, den)
-                if not num.is_zero:
-                    total_list.append(
-                        (as_expr(num, den), sympy.Integer(delay) if delay == 0 else delay)
-                    )
-            for num, den, delay, weight in weighted:
-                total_list.append(
-                    (weight * as_expr(num, den), sympy.Integer(delay) if delay == 0 else delay)
-                )
-            total = tuple(total_list)
-            transform = sympy.Add(*(r_ * delay_factor(t_) for r_, t_ in total))
-        zero_state = sympy.Add(
-            *(c.weight * c.transform for c in contributions if c.origin in _ZERO_STATE)
-        )
-        zero_input = sympy.Add(
-            *(c.weight * c.transform for c in contributions if c.origin not in _ZERO_STATE)
-        )
-        return Response(
-            quantity,
-            transform,
-            quantity.kind.unit,
-            zero_state,
-            zero_input,
-            tuple(contributions),
-            total,
-        )
+                    exact = exact_entry(shape)
+                    numeric = self._shape_t(exact) if self.pencil.numeric else None
+                    parts.append(_Part(j, weight, delay, exact, numeric, side))
+        self._cache["parts"] = tuple(parts)
+        return self._cache["parts"]
+
+    def _shape_t(self, shape: sympy.Expr) -> Ratio | None:
+        """A shape without parameters in ``t``, with a monic denominator."""
+        pair = _flint_ratio(shape)
+        if pair is None:
+            return None
+        num, den = self.pencil.to_t(pair[0]), self.pencil.to_t(pair[1])
+        lead = den[den.degree()]
+        return num / lead, den / lead
+
+    def _folds(self) -> dict[tuple[int, sympy.Expr], _Fold]:
+        """The plain numeric parts of one side that start together, each solved as one column."""
+        if "folds" in self._cache:
+            return self._cache["folds"]
+        members: dict[tuple[int, sympy.Expr], list[_Part]] = {}
+        for part in self._parts():
+            if part.weight == 1 and part.numeric is not None:
+                members.setdefault((part.side, part.delay), []).append(part)
+        columns = []
+        commons = []
+        for group in members.values():
+            common = flint.fmpq_poly([1])
+            for part in group:
+                den = part.numeric[1]
+                common = common * (den // common.gcd(den))
+            column: dict[int, flint.fmpq_poly] = {}
+            for part in group:
+                factor = part.numeric[0] * (common // part.numeric[1])
+                for r, value in self.plan.inputs[part.j].column.items():
+                    entry = self._to_t(value) * factor
+                    column[r] = column[r] + entry if r in column else entry
+            columns.append(column)
+            commons.append(common)
+        solved = self.pencil.fold(columns)
+        folds = {key: _Fold(tuple(group), common, solved, index)
+                 for index, ((key, group), common)
+                 in enumerate(zip(members.items(), commons, strict=True))}
+        self._cache["folds"] = folds
+        return folds
+
+    def _fold_ratio(self, fold: _Fold, form: Form) -> Ratio | None:
+        """A quantity's part from one folded right-hand side, cancelled; None when zero."""
+        den = self._denominator_t()
+        num = flint.fmpq_poly([0])
+        for i, coeff in self._coeffs_t(form).items():
+            numerator = fold.solved.numerator(fold.index, i)
+            if not numerator.is_zero():
+                num += numerator * coeff
+        direct = flint.fmpq_poly([0])
+        for part in fold.parts:
+            if part.j in form.direct:
+                direct += (self._to_t(form.direct[part.j]) * part.numeric[0]
+                           * (fold.common // part.numeric[1]))
+        if not direct.is_zero():
+            num += den * direct
+        if num.is_zero():
+            return None
+        pair = self._finish(num, den * fold.common, form)
+        return None if _is_zero(pair) else pair
 
     # ----- quantities as linear forms
 
@@ -473,25 +961,11 @@ class Solution:
             raise ValidationError(f"there is no source named {source_name!r}", quantity.location)
         j = self.plan.source_inputs[source_name]
         form = self._form(quantity)
-        num, den = network_function(self.denominator, self.numerators, form, j)
+        num, den = self._in_s(self._functions(form, {j})[j])
         element = self.netlist.element(source_name)
         if element is not None and element.kind is Kind.DISPLACEMENT_SOURCE:
             num, den = cancel(num * poly(s), den)
         return describe(source_name, quantity, num, den)
-
-
-def _minus_initial(num: sympy.Poly, den: sympy.Poly) -> tuple[sympy.Poly, sympy.Poly]:
-    """``s V - v(0-)`` for an initial-condition part, ``v(0-) = lim_{s->oo} s V``.
-
-    The initial-condition part alone starts from the stored state, so its
-    value just after 0 is the value just before.  When that part is not
-    strictly proper after multiplying by ``s`` (an impulse at 0: the initial
-    conditions are inconsistent), it is left as it is.
-    """
-    if num.degree() != den.degree():
-        return num, den
-    v0 = num.LC() / den.LC()
-    return cancel(num - den * v0, den)
 
 
 __all__ = ["Contribution", "Form", "Response", "Solution", "across", "network_function"]
