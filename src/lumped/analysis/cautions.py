@@ -128,8 +128,9 @@ def cautions(netlist: m.Netlist, responses: Responses, results: Sequence[Quantit
                 "keeps growing after the window: a real part saturates, breaks down or meets "
                 "a stop first, so judge only the window you care about."
             )
-    electrical = stored_energy(netlist, {m.Domain.ELECTRICAL})
-    mechanical = stored_energy(netlist, {m.Domain.TRANSLATIONAL, m.Domain.ROTATIONAL})
+    topology = responses.solution.topology
+    electrical = stored_energy(topology, {m.Domain.ELECTRICAL})
+    mechanical = stored_energy(topology, {m.Domain.TRANSLATIONAL, m.Domain.ROTATIONAL})
     if electrical is not None and electrical > 1.0:
         found.append(
             f"The capacitors and inductors hold {electrical:.4g} J at t = 0: enough to burn or "

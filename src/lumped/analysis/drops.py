@@ -22,7 +22,6 @@ from lumped import model as m
 from lumped.analysis.responses import Responses
 from lumped.errors import ParametersNeeded
 from lumped.figures import compute_figures
-from lumped.topology import falling_masses
 
 
 @dataclass(frozen=True, repr=False)
@@ -123,7 +122,7 @@ def drop_figures(netlist: m.Netlist, responses: Responses, start: float,
         if mass is None:
             continue
         node = mass.positive
-        falling = falling_masses(netlist, drop.mass)
+        falling = responses.solution.topology.falling[drop.mass]
         nodes = {body.positive for name in falling if (body := netlist.element(name))}
         try:
             parts = {kind: responses.time(m.Quantity(kind, node, "of"))

@@ -3,7 +3,8 @@
 Examples
 --------
 >>> from lumped.api import loads
->>> stored_energy(loads("capacitor C at a 2 F, initially 3 V\\nresistor R at a 1 ohm\\n"))
+>>> from lumped.topology import validate
+>>> stored_energy(validate(loads("capacitor C at a 2 F, initially 3 V\\nresistor R at a 1 ohm\\n")))
 9.0
 """
 
@@ -19,7 +20,7 @@ from lumped.analysis.responses import Responses
 from lumped.constants import STANDARD_GRAVITY
 from lumped.errors import ParametersNeeded
 from lumped.figures import energy_dissipated
-from lumped.topology import falling_masses
+from lumped.topology import Topology
 
 # Past this many dissipators the report leaves the energies out, to stay quick.
 MOST_DISSIPATORS = 12
@@ -76,13 +77,14 @@ def dissipation(netlist: m.Netlist, responses: Responses, start: float,
     return tuple(found)
 
 
-def stored_energy(netlist: m.Netlist,
+def stored_energy(topology: Topology,
                   domains: Collection[m.Domain] | None = None) -> float | None:
     """Energy held at t = 0 by the stores' initial conditions and the drops (joules).
 
     Parameters
     ----------
-    netlist : Netlist
+    topology : Topology
+        The validated network (its falling assemblies count for the drops).
     domains : collection of Domain, optional
         Count only the stores of these domains (drops count with the translational).
 
@@ -94,10 +96,12 @@ def stored_energy(netlist: m.Netlist,
     Examples
     --------
     >>> from lumped.api import loads
-    >>> net = loads("inductor L at a 2 H, initially 1 A\\nresistor R at a 1 ohm\\n")
+    >>> from lumped.topology import validate
+    >>> net = validate(loads("inductor L at a 2 H, initially 1 A\\nresistor R at a 1 ohm\\n"))
     >>> stored_energy(net), stored_energy(net, {m.Domain.ROTATIONAL})
     (1.0, 0.0)
     """
+    netlist = topology.netlist
     total = sympy.Integer(0)
     for element in netlist.elements:
         if domains is not None and element.domain not in domains:
@@ -112,7 +116,7 @@ def stored_energy(netlist: m.Netlist,
             total += compliance * element.initial**2 / 2
     for drop in netlist.drops if domains is None or m.Domain.TRANSLATIONAL in domains else ():
         g = netlist.gravity.acceleration if netlist.gravity else STANDARD_GRAVITY
-        for name in falling_masses(netlist, drop.mass):
+        for name in topology.falling[drop.mass]:
             mass = netlist.element(name)
             if mass is not None and mass.value is not None:
                 total += mass.value * g * drop.height

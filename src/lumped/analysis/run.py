@@ -274,7 +274,7 @@ def analyse(network: m.Netlist | Topology) -> Analysis:
         notes=tuple(getattr(solution, "notes", ())),
         dissipation=heat,
         drops=drops,
-        stored_energy=stored_energy(netlist),
+        stored_energy=stored_energy(topology),
         window_chosen=window_chosen,
         window_rule=window_rule,
     )

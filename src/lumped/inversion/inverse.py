@@ -190,19 +190,9 @@ def invert(
             else:
                 numerics = None
 
-    return TimeResponse(
-        modes=tuple(m for g in groups for m in g.modes),
-        impulses=tuple(i for g in groups for i in g.impulses),
-        parameters=parameters,
-        transform=transform,
-        s=s,
-        t=t,
-        digits=digits,
-        rounded=rounded,
-        _restore=tuple((dummy, atom) for atom, dummy in stand_ins.items()),
-        _groups=tuple(groups),
-        _numeric=tuple(numerics) if numerics is not None else None,
-    )
+    return _response(transform, s, t, digits, groups, numerics, parameters=parameters,
+                     rounded=rounded,
+                     restore=tuple((dummy, atom) for atom, dummy in stand_ins.items()))
 
 
 def invert_ratios(
@@ -257,17 +247,25 @@ def invert_ratios(
         group, numeric = _numeric_group(numerator, denominator, delay, digits)
         groups.append(group)
         numerics.append(numeric)
+    return _response(transform, s, t, digits, groups, numerics)
+
+
+def _response(transform: sympy.Expr, s: sympy.Symbol, t: sympy.Symbol, digits: int,
+              groups: Sequence[_Group], numerics: Sequence[_NumericGroup] | None, *,
+              parameters: frozenset = frozenset(), rounded: bool = False,
+              restore: tuple = ()) -> TimeResponse:
+    """The result of both entry points, from the groups of modes they found."""
     return TimeResponse(
         modes=tuple(m for g in groups for m in g.modes),
         impulses=tuple(i for g in groups for i in g.impulses),
-        parameters=frozenset(),
+        parameters=parameters,
         transform=transform,
         s=s,
         t=t,
         digits=digits,
-        rounded=False,
-        _restore=(),
+        rounded=rounded,
+        _restore=restore,
         _groups=tuple(groups),
-        _numeric=tuple(numerics),
+        _numeric=tuple(numerics) if numerics is not None else None,
     )
 

@@ -213,16 +213,17 @@ def _merge_reasons(rows: list[tuple[str, str]]) -> list[tuple[str, str]]:
     return result
 
 
+def _in_unit(value: float, unit: str) -> str:
+    """A requirement's number: fractions as per cent, everything else with its unit."""
+    return f"{value * 100:.3g} %" if unit == "%" else engineering(value, unit)
+
+
 def _bound_text(verdict) -> str:
     requirement = verdict.requirement
     unit = requirement.unit
 
     def show(value):
-        if value is None:
-            return None
-        if unit == "%":
-            return f"{value * 100:.3g} %"
-        return engineering(value, unit)
+        return None if value is None else _in_unit(value, unit)
 
     def bound(value, exact):
         if value is not None:
@@ -267,14 +268,12 @@ def requirement_text(verdict) -> tuple[str, str]:
     what = f"{requirement.figure.value} of {requirement.quantity.label} {_bound_text(verdict)}"
     if verdict.value is None:
         return what, verdict.reason
-    value = f"{verdict.value * 100:.3g} %" if unit == "%" else engineering(verdict.value, unit)
+    value = _in_unit(verdict.value, unit)
     if requirement.quantity.kind is m.QuantityKind.ACCELERATION:
         value += f" ({in_g(verdict.value):.3g} g)"
     margin = ""
     if verdict.margin is not None:
-        margin_text = (f"{verdict.margin * 100:.3g} %" if unit == "%"
-                       else engineering(verdict.margin, unit))
-        margin = f", margin {margin_text}"
+        margin = f", margin {_in_unit(verdict.margin, unit)}"
     return what, f"is {value}{margin}"
 
 
