@@ -2,8 +2,9 @@
 
 Receives a :class:`lumped.topology.Topology` (or a netlist, validated on the
 way in); stamps every element by its role (:mod:`~lumped.network.stamps`),
-solves the pencil ``A0 + s A1`` exactly for every excitation
-(:mod:`~lumped.network.solve`), starts from equilibrium under gravity and
+solves the pencil ``A0 + s A1`` exactly (:mod:`~lumped.network.solve`): the
+excitations that start together as one right-hand side, over the network's
+one characteristic polynomial; starts from equilibrium under gravity and
 notes impulses at ``t = 0`` (:mod:`~lumped.network.initial`).  Hands on an
 immutable :class:`Solution`, which gives any quantity as a :class:`Response`
 (its transform, split into :class:`Contribution` by excitation) and any

@@ -151,14 +151,15 @@ class Response:
     terms: tuple[tuple[sympy.Expr, sympy.Expr], ...] = ()
     ratios: tuple[tuple[sympy.Expr, Any, Any], ...] | None = field(
         default=None, repr=False, compare=False)
-    sides: Callable[[], tuple[sympy.Expr, sympy.Expr]] = field(
+    # Worked out when first read: the parts by side, and the split by excitation.
+    _by_side: Callable[[], tuple[sympy.Expr, sympy.Expr]] = field(
         default=_no_sides, repr=False, compare=False)
-    split: Callable[[], tuple[Contribution, ...]] = field(
+    _by_excitation: Callable[[], tuple[Contribution, ...]] = field(
         default=_nothing, repr=False, compare=False)
 
     @functools.cached_property
     def _sides(self) -> tuple[sympy.Expr, sympy.Expr]:
-        return self.sides()
+        return self._by_side()
 
     @property
     def zero_state(self) -> sympy.Expr:
@@ -173,7 +174,7 @@ class Response:
     @functools.cached_property
     def contributions(self) -> tuple[Contribution, ...]:
         """The transform split by excitation (and irrational weight)."""
-        return tuple(self.split())
+        return tuple(self._by_excitation())
 
 
 @dataclass(frozen=True)

@@ -28,6 +28,7 @@ elements of a null vector.
 from __future__ import annotations
 
 import math
+from array import array
 from collections.abc import Callable, Mapping, Sequence
 
 import flint
@@ -497,7 +498,7 @@ class _Solved:
         self.count = len(columns)
         self._lifted: dict[tuple[int, int], flint.fmpq_poly] = {}
         self._lifts = 0
-        self._entries: list[list[list[int]]] | None = None
+        self._entries: list[list[array]] | None = None
         if n == 0 or not columns:
             self._images: list[_Image] = []
             return
@@ -542,8 +543,8 @@ class _Solved:
         first = self._first[g]
         self._lifts += 1
         if self._lifts == _BULK_LIFTS:
-            # Many unknowns wanted (every node): read each image once, as Python integers.
-            self._entries = [[[int(v) for v in w.entries()] for w in sequence]
+            # Many unknowns wanted (every node): read each image once, as machine words.
+            self._entries = [[array("Q", map(int, w.entries())) for w in sequence]
                              for sequence in self._krylov]
         residues = []
         for k, image in enumerate(self._images):
